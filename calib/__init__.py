@@ -1,0 +1,1 @@
+"""airbias calib package."""

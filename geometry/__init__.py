@@ -1,0 +1,1 @@
+"""airbias geometry package."""
