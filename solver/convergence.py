@@ -1,0 +1,68 @@
+"""Convergence and divergence of the outer iteration: residuals plus engineering monitors."""
+from __future__ import annotations
+
+import math
+
+import numpy as np
+
+
+class DivergenceError(RuntimeError):
+    """The solve blew up. Carries the iteration, the last residuals and the residual history."""
+
+    def __init__(self, iteration: int, residuals: dict[str, float], history: dict[str, np.ndarray], reason: str):
+        self.iteration, self.residuals, self.history = iteration, residuals, history
+        shown = ", ".join(f"{k} {v:.3e}" for k, v in residuals.items())
+        super().__init__(
+            f"the flow solve diverged at iteration {iteration} ({reason}); residuals: {shown}. "
+            "Try: a lower velocity relaxation (e.g. 0.5), a finer mesh level near the mouth, "
+            "or first-order convection to get a starting field.")
+
+
+class ConvergenceMonitor:
+    """Stop when every residual < ``residual_tolerance`` and every monitor's relative change over the
+    last ``window`` iterations < ``monitor_tolerance``; raise on NaN or on growth past ``divergence_factor``
+    times the smallest residual seen."""
+
+    def __init__(self, residual_tolerance: float, monitor_tolerance: float, window: int, divergence_factor: float):
+        self.residual_tolerance = residual_tolerance
+        self.monitor_tolerance = monitor_tolerance
+        self.window = window
+        self.divergence_factor = divergence_factor
+        self.residuals: dict[str, list[float]] = {}
+        self.monitors: dict[str, list[float]] = {}
+        self.best: dict[str, float] = {}
+
+    def record(self, iteration: int, residuals: dict[str, float], monitors: dict[str, float]):
+        for name, value in residuals.items():
+            self.residuals.setdefault(name, []).append(value)
+        for name, value in monitors.items():
+            self.monitors.setdefault(name, []).append(value)
+        for name, value in {**residuals, **monitors}.items():
+            if not math.isfinite(value):
+                raise DivergenceError(iteration, residuals, self.history(), f"{name} is not finite")
+        for name, value in residuals.items():
+            best = self.best.get(name, value)
+            if iteration > 10 and value > self.divergence_factor * best:
+                raise DivergenceError(iteration, residuals, self.history(),
+                                      f"{name} residual grew {value / best:.1e} times its minimum")
+            self.best[name] = min(best, value)
+
+    def monitors_settled(self) -> bool:
+        for values in self.monitors.values():
+            if len(values) < self.window + 1:
+                return False
+            recent = np.asarray(values[-self.window - 1:])
+            scale = max(abs(recent[-1]), 1e-300)
+            if np.abs(recent - recent[-1]).max() / scale > self.monitor_tolerance:
+                return False
+        return True
+
+    def converged(self) -> bool:
+        if not self.residuals:
+            return False
+        if any(values[-1] > self.residual_tolerance for values in self.residuals.values()):
+            return False
+        return self.monitors_settled()
+
+    def history(self) -> dict[str, np.ndarray]:
+        return {name: np.asarray(v) for name, v in {**self.residuals, **self.monitors}.items()}

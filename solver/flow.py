@@ -1,0 +1,310 @@
+"""Steady incompressible axisymmetric RANS: the SIMPLEC outer iteration (orchestration, plain Python).
+
+Equations per radian over each cell (x axial, r radial, U = (u, v)), rho constant, mu_eff = mu + mu_t:
+
+    sum_f F_f u_f = -V dp/dx + sum_f mu_f grad u . S_f + sum_f mu_f (grad U)^T_x . S_f
+    sum_f F_f v_f = -V dp/dr + sum_f mu_f grad v . S_f + sum_f mu_f (grad U)^T_r . S_f - 2 mu_eff v V / r^2
+    sum_f F_f = 0
+
+with V dp/dr including the wedge side-face force (see :func:`solver.kernels.pressure_gradient`). Pressure-
+velocity coupling: SIMPLEC (van Doormaal & Raithby 1984) on a collocated grid with Rhie-Chow face fluxes
+and Majumdar's (1988) correction. Convection: upwind matrix + TVD deferred correction; diffusion: orthogonal
+part implicit, cross-diffusion and transposed stress explicit.
+"""
+from __future__ import annotations
+
+import time
+from dataclasses import dataclass, field
+from typing import Callable
+
+import numpy as np
+
+from geometry.mesh import Mesh
+
+from . import kernels as K
+from .boundary import BoundaryCondition, FaceContext
+from .convergence import ConvergenceMonitor, DivergenceError
+from .linear import CellMatrixPattern, solve_direct
+
+
+@dataclass(frozen=True)
+class SolverSettings:
+    """Outer-iteration controls. Stop when every normalised residual < ``residual_tolerance`` and every
+    monitor changed less than ``monitor_tolerance`` (relative) over the last ``monitor_window`` iterations."""
+
+    max_iterations: int = 3000
+    residual_tolerance: float = 1e-6
+    monitor_tolerance: float = 1e-6
+    monitor_window: int = 20
+    velocity_relaxation: float = 0.8
+    pressure_relaxation: float = 1.0
+    second_order: bool = True
+    divergence_factor: float = 1e6
+
+
+@dataclass(frozen=True, eq=False)
+class FaceGeometry:
+    """Interpolation geometry of the faces, computed once from the mesh."""
+
+    d: np.ndarray
+    dn: np.ndarray
+    w: np.ndarray
+    ls_inverse: np.ndarray
+
+    @classmethod
+    def of(cls, mesh: Mesh) -> "FaceGeometry":
+        n_int = mesh.n_internal
+        c = mesh.cell_centre
+        d = mesh.face_centre - c[mesh.owner]
+        d[:n_int] = c[mesh.neighbour[:n_int]] - c[mesh.owner[:n_int]]
+        dn = np.einsum("ij,ij->i", d, mesh.face_normal)
+        w = np.ones(mesh.n_faces)
+        to_face = mesh.face_centre[:n_int] - c[mesh.owner[:n_int]]
+        w[:n_int] = 1.0 - np.einsum("ij,ij->i", to_face, d[:n_int]) / np.einsum("ij,ij->i", d[:n_int], d[:n_int])
+        inverse = np.empty((mesh.n_cells, 2, 2))
+        K.least_squares_matrices(mesh.owner, mesh.neighbour, n_int, d, mesh.n_cells, inverse)
+        return cls(d, dn, w, inverse)
+
+
+@dataclass
+class FlowState:
+    """Cell fields u, v (m/s), p (Pa, relative to ambient), mu_eff (Pa s); face mass flux (kg/s/rad)."""
+
+    u: np.ndarray
+    v: np.ndarray
+    p: np.ndarray
+    mass_flux: np.ndarray
+    mu_eff: np.ndarray
+
+    @property
+    def velocity(self) -> np.ndarray:
+        return np.column_stack([self.u, self.v])
+
+    def copy(self) -> "FlowState":
+        return FlowState(self.u.copy(), self.v.copy(), self.p.copy(), self.mass_flux.copy(), self.mu_eff.copy())
+
+
+@dataclass(eq=False)
+class FlowProblem:
+    """A mesh, the fluid, a condition on every boundary patch, and optional closure and sources.
+
+    ``closure``: object with ``effective_viscosity(problem, state, gradients) -> mu_eff`` (cells), or None
+    for laminar flow. ``body_force(mesh) -> (n_cells, 2)`` force per unit volume (N/m^3), e.g. for
+    manufactured solutions. ``monitors``: name -> function(problem, state) -> float, checked for convergence.
+    """
+
+    mesh: Mesh
+    density: float
+    viscosity: float
+    boundaries: dict[str, BoundaryCondition]
+    closure: object | None = None
+    body_force: Callable[[Mesh], np.ndarray] | None = None
+    monitors: dict[str, Callable] = field(default_factory=dict)
+
+    def __post_init__(self):
+        missing = set(self.mesh.patches) - set(self.boundaries)
+        extra = set(self.boundaries) - set(self.mesh.patches)
+        if missing or extra:
+            raise ValueError(f"boundary conditions do not match the mesh patches: missing {sorted(missing)}, "
+                             f"unknown {sorted(extra)}")
+        self.geometry = FaceGeometry.of(self.mesh)
+        self.pattern = CellMatrixPattern.from_faces(self.mesh.owner, self.mesh.neighbour,
+                                                    self.mesh.n_internal, self.mesh.n_cells)
+
+    def initial_state(self) -> FlowState:
+        n, nf = self.mesh.n_cells, self.mesh.n_faces
+        return FlowState(np.zeros(n), np.zeros(n), np.zeros(n), np.zeros(nf), np.full(n, self.viscosity))
+
+
+@dataclass
+class FlowSolution:
+    problem: FlowProblem
+    state: FlowState
+    iterations: int
+    converged: bool
+    history: dict[str, np.ndarray]
+    wall_seconds: float
+
+    def patch_flux(self, name: str) -> float:
+        """Volumetric flow out through a patch over the full revolution (m^3/s)."""
+        faces = self.problem.mesh.patch_faces(name)
+        return float(2.0 * np.pi * self.state.mass_flux[faces].sum() / self.problem.density)
+
+
+class _Iteration:
+    """One problem's working arrays and the steps of a SIMPLEC outer iteration."""
+
+    def __init__(self, problem: FlowProblem, settings: SolverSettings, state: FlowState):
+        self.pb, self.s, self.st = problem, settings, state
+        m = problem.mesh
+        self.n_int, self.nb = m.n_internal, m.n_faces - m.n_internal
+        self.old_velocity = state.velocity
+        self.bc_slices = [(problem.boundaries[name], m.patches[name]) for name in m.patches]
+        self.is_pressure_face = np.zeros(self.nb, dtype=np.bool_)
+        self.is_wall_face = np.zeros(self.nb, dtype=np.bool_)
+        for bc, sl in self.bc_slices:
+            self.is_pressure_face[sl.start - self.n_int:sl.stop - self.n_int] = bc.flux == "pressure"
+            self.is_wall_face[sl.start - self.n_int:sl.stop - self.n_int] = bc.kind == "wall"
+        self.body = (problem.body_force(m) * m.cell_volume[:, None]) if problem.body_force else None
+        self.hoop = 2.0 * m.cell_volume / m.cell_centre[:, 1] ** 2
+        self.p_face = np.zeros(self.nb)
+        self.vel_a = np.zeros((self.nb, 2))
+        self.vel_b = np.ones((self.nb, 2))
+        self.grad_p = np.zeros((m.n_cells, 2))
+        self.update_boundaries(first=True)
+
+    def context(self, sl) -> FaceContext:
+        m, st = self.pb.mesh, self.st
+        own = m.owner[sl]
+        return FaceContext(m.face_centre[sl], m.face_normal[sl], m.face_area[sl],
+                           np.column_stack([st.u[own], st.v[own]]), st.mass_flux[sl], self.pb.density)
+
+    def update_boundaries(self, first: bool = False):
+        """Affine velocity data, face pressures and the fluxes of "fixed" conditions."""
+        m, st, g = self.pb.mesh, self.st, self.pb.geometry
+        own_b = m.owner[self.n_int:]
+        self.p_face = st.p[own_b] + np.einsum("ij,ij->i", self.grad_p[own_b], g.d[self.n_int:])
+        for bc, sl in self.bc_slices:
+            ctx = self.context(sl)
+            k = slice(sl.start - self.n_int, sl.stop - self.n_int)
+            self.vel_a[k], self.vel_b[k] = bc.velocity_affine(ctx)
+            if bc.flux == "fixed":
+                st.mass_flux[sl] = bc.fixed_flux(ctx)
+            else:
+                self.p_face[k] = bc.pressure_value(ctx)
+
+    def face_viscosity(self) -> np.ndarray:
+        m, mu = self.pb.mesh, self.st.mu_eff
+        w = self.pb.geometry.w
+        mu_f = np.empty(m.n_faces)
+        mu_f[:self.n_int] = w[:self.n_int] * mu[m.owner[:self.n_int]] + (1 - w[:self.n_int]) * mu[m.neighbour[:self.n_int]]
+        mu_f[self.n_int:] = np.where(self.is_wall_face, self.pb.viscosity, mu[m.owner[self.n_int:]])
+        return mu_f
+
+    def gradients(self):
+        m, g, st = self.pb.mesh, self.pb.geometry, self.st
+        own_b = m.owner[self.n_int:]
+        grads = []
+        for comp, phi in enumerate((st.u, st.v)):
+            face = self.vel_a[:, comp] + self.vel_b[:, comp] * phi[own_b]
+            out = np.empty((m.n_cells, 2))
+            K.least_squares_gradient(m.owner, m.neighbour, self.n_int, g.d, g.ls_inverse, phi, face, out)
+            grads.append(out)
+        K.pressure_gradient(m.owner, m.neighbour, self.n_int, g.w, m.face_normal, m.face_area, m.cell_area,
+                            m.cell_volume, st.p, self.p_face, self.grad_p)
+        return grads
+
+    def momentum(self, grads, mu_f):
+        """Assemble and solve both velocity components; return their normalised residuals."""
+        m, g, st, s = self.pb.mesh, self.pb.geometry, self.st, self.s
+        diag = np.empty(m.n_cells)
+        off = np.empty((self.n_int, 2))
+        bflux, bcoef = np.empty(self.nb), np.empty(self.nb)
+        K.momentum_coefficients(m.owner, m.neighbour, self.n_int, g.w, g.dn, m.face_normal, m.face_area, g.d,
+                                st.mass_flux, mu_f, diag, off, bflux, bcoef)
+        alpha = s.velocity_relaxation
+        residuals, solutions, diags = [], [], []
+        for comp, phi in enumerate((st.u, st.v)):
+            dg = diag.copy()
+            rhs = -m.cell_volume * self.grad_p[:, comp]
+            if self.body is not None:
+                rhs += self.body[:, comp]
+            K.apply_boundary(m.owner, self.n_int, bflux, bcoef, self.vel_a[:, comp].copy(),
+                             self.vel_b[:, comp].copy(), dg, rhs)
+            if comp == 1:
+                dg += st.mu_eff * self.hoop
+            if s.second_order:
+                K.explicit_face_terms(m.owner, m.neighbour, self.n_int, g.w, g.d, g.dn, m.face_normal,
+                                      m.face_area, st.mass_flux, mu_f, phi, grads[comp], grads[0], grads[1],
+                                      comp, rhs)
+            A = self.pb.pattern.matrix(dg, off)
+            residual = rhs - A @ phi
+            scale = np.abs(dg).sum() * max(np.abs(st.velocity).max(), 1e-12)
+            residuals.append(np.abs(residual).sum() / scale)
+            rhs_relaxed = rhs + (1.0 - alpha) / alpha * dg * phi
+            A = self.pb.pattern.matrix(dg / alpha, off)
+            solutions.append(solve_direct(A, rhs_relaxed))
+            diags.append(dg / alpha)
+        st.u, st.v = solutions
+        neighbours_sum = (np.bincount(m.owner[:self.n_int], -off[:, 0], m.n_cells)
+                          + np.bincount(m.neighbour[:self.n_int], -off[:, 1], m.n_cells))
+        d_rc = m.cell_volume / diags[0]
+        d_simplec = m.cell_volume / np.maximum(diags[0] - neighbours_sum, 1e-3 * diags[0])
+        return residuals, d_rc, d_simplec
+
+    def continuity(self, d_rc, d_simplec):
+        """Rhie-Chow fluxes, the SIMPLEC pressure correction, and the corrected fields."""
+        m, g, st, s, rho = self.pb.mesh, self.pb.geometry, self.st, self.s, self.pb.density
+        alpha = s.velocity_relaxation
+        old_flux = st.mass_flux.copy()
+        K.rhie_chow_flux(m.owner, m.neighbour, self.n_int, g.w, g.d, g.dn, m.face_normal, m.face_area, rho,
+                         st.velocity, st.p, self.grad_p, d_rc, alpha, old_flux, self.old_velocity, st.mass_flux)
+        self.pressure_face_flux(d_rc, old_flux)
+        self.update_boundaries()
+        imbalance = np.empty(m.n_cells)
+        K.divergence(m.owner, m.neighbour, self.n_int, st.mass_flux, imbalance)
+        throughput = max(np.abs(st.mass_flux[self.n_int:]).sum(), 1e-300)
+        residual = np.abs(imbalance).sum() / throughput
+        diag = np.empty(m.n_cells)
+        off = np.empty((self.n_int, 2))
+        coef = np.empty(m.n_faces)
+        K.pressure_correction_coefficients(m.owner, m.neighbour, self.n_int, g.w, g.dn, m.face_area, rho,
+                                           d_simplec, self.is_pressure_face, diag, off, coef)
+        if not self.is_pressure_face.any():
+            diag[0] += diag.sum()  # pin the pressure level: no boundary fixes it
+        p_corr = solve_direct(self.pb.pattern.matrix(diag, off), -imbalance)
+        K.correct_flux(m.owner, m.neighbour, self.n_int, coef, p_corr, st.mass_flux)
+        own_b = m.owner[self.n_int:]
+        pc_face = np.where(self.is_pressure_face, 0.0, p_corr[own_b])
+        grad_pc = np.empty((m.n_cells, 2))
+        K.pressure_gradient(m.owner, m.neighbour, self.n_int, g.w, m.face_normal, m.face_area, m.cell_area,
+                            m.cell_volume, p_corr, pc_face, grad_pc)
+        st.u = st.u - d_simplec * grad_pc[:, 0]
+        st.v = st.v - d_simplec * grad_pc[:, 1]
+        st.p = st.p + s.pressure_relaxation * p_corr
+        self.old_velocity = st.velocity
+        self.update_boundaries()
+        return residual
+
+    def pressure_face_flux(self, d_rc, old_flux):
+        """Rhie-Chow flux through faces whose pressure is set (outlets, openings)."""
+        m, g, st, rho = self.pb.mesh, self.pb.geometry, self.st, self.pb.density
+        f = self.n_int + np.flatnonzero(self.is_pressure_face)
+        if len(f) == 0:
+            return
+        own = m.owner[f]
+        n, S = m.face_normal[f], m.face_area[f]
+        un = st.u[own] * n[:, 0] + st.v[own] * n[:, 1]
+        old_un = self.old_velocity[own, 0] * n[:, 0] + self.old_velocity[own, 1] * n[:, 1]
+        gpd = np.einsum("ij,ij->i", self.grad_p[own], g.d[f])
+        dp = self.p_face[f - self.n_int] - st.p[own]
+        alpha = self.s.velocity_relaxation
+        st.mass_flux[f] = (rho * S * (un - d_rc[own] * (dp - gpd) / g.dn[f])
+                           + (1 - alpha) * (old_flux[f] - rho * S * old_un))
+
+
+def solve(problem: FlowProblem, settings: SolverSettings = SolverSettings(), initial: FlowState | None = None,
+          progress: Callable[[int, dict], None] | None = None) -> FlowSolution:
+    """Run SIMPLEC outer iterations to convergence; raise :class:`DivergenceError` if the solve blows up."""
+    start = time.perf_counter()
+    state = (initial or problem.initial_state()).copy()
+    it = _Iteration(problem, settings, state)
+    monitor = ConvergenceMonitor(settings.residual_tolerance, settings.monitor_tolerance,
+                                 settings.monitor_window, settings.divergence_factor)
+    converged = False
+    for iteration in range(1, settings.max_iterations + 1):
+        if problem.closure is not None:
+            state.mu_eff = problem.closure.effective_viscosity(problem, state, it)
+        mu_f = it.face_viscosity()
+        grads = it.gradients()
+        (res_u, res_v), d_rc, d_simplec = it.momentum(grads, mu_f)
+        res_p = it.continuity(d_rc, d_simplec)
+        residuals = {"u": res_u, "v": res_v, "continuity": res_p}
+        values = {name: fn(problem, state) for name, fn in problem.monitors.items()}
+        monitor.record(iteration, residuals, values)
+        if progress is not None:
+            progress(iteration, residuals)
+        if monitor.converged():
+            converged = True
+            break
+    return FlowSolution(problem, state, iteration, converged, monitor.history(), time.perf_counter() - start)
