@@ -76,7 +76,8 @@ def _grid_ratios(n_cells, dim: int) -> tuple[float, float]:
         raise ValueError("n_cells must be three cell counts (fine, medium, coarse) and dim 1, 2 or 3")
     n1, n2, n3 = (float(n) for n in n_cells)
     if not n1 > n2 > n3 > 0:
-        raise ValueError(f"n_cells = {tuple(n_cells)} must be positive and ordered fine -> coarse (N1 > N2 > N3)")
+        raise ValueError(f"n_cells = {tuple(n_cells)} must be positive and ordered "
+                         "fine -> coarse (N1 > N2 > N3)")
     return (n1 / n2) ** (1.0 / dim), (n2 / n3) ** (1.0 / dim)
 
 

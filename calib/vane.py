@@ -19,9 +19,11 @@ anemometer extracts almost no power):
   from rest and settles at the first equilibrium it meets while spinning up (smallest |omega|
   where the net torque changes sign); if the starting torque |Q(0)| <= Q_f it does not turn.
 
-The display is calibrated in uniform flow: the indicated speed is the uniform speed U_eq that holds
-the rotor at the same omega (torque balance solved for U at fixed omega, the same quadrature), so
-uniform flow reads exactly true. A certificate of (indicated, true) pairs from a uniform-flow
+The display is calibrated in uniform flow: the indicated speed is the uniform speed U_eq whose
+free-running (spin-up) rotor speed is the same omega, found by inverting the uniform-flow curve
+omega_cal(U) with the same quadrature, so uniform flow reads exactly true. (Inverting the torque
+balance at fixed omega instead is ambiguous: with friction at low speed the flat-plate torque is
+not monotone in omega, and a stalled and a running equilibrium can coexist.) A certificate of (indicated, true) pairs from a uniform-flow
 calibration means: at true speed ``true`` the display showed ``indicated``. The modelled display
 therefore shows indicated(U_eq), interpolated linearly in the certificate and extrapolated with the
 end segments' slopes (never below zero). Backward rotation (net reversed flow) shows a negative
@@ -158,7 +160,7 @@ def _interp_extrapolated(x, xp, fp):
 def _first_root(g, scale):
     """Smallest x > 0 with g changing sign from g(0) > 0 to <= 0, scanning in steps scale/32."""
     step = scale / _SCAN_STEPS
-    x_low, g_low = 0.0, g(0.0)
+    x_low = 0.0
     for k in range(1, _SCAN_STEPS * _SCAN_SCALES + 1):
         x = k * step
         gx = g(x)
@@ -166,5 +168,200 @@ def _first_root(g, scale):
             if gx == 0.0:
                 return x
             return brentq(g, x_low, x, xtol=1e-15 * scale, rtol=1e-14)
-        x_low, g_low = x, gx
+        x_low = x
     raise ArithmeticError(f"no torque balance found up to {x_low:g} (scale {scale:g})")
+
+
+def _check_angle(value):
+    return None if 0.0 < value < 90.0 else "blade angle must lie between 0 and 90 degrees"
+
+
+@register_instrument("vane")
+@dataclass(frozen=True)
+class VaneAnemometer(Instrument):
+    """Free-running helical-blade rotor of B blades, chord c, hub to tip; SI fields.
+
+    nominal_area (m^2), tip_diameter, hub_diameter, pitch, chord (m), blades (-),
+    air_density (kg/m^3), friction_torque (N m), certificate ((indicated, true) m/s pairs).
+    """
+
+    nominal_area: float
+    tip_diameter: float
+    hub_diameter: float
+    blades: int
+    pitch: float
+    chord: float
+    air_density: float = 1.2
+    friction_torque: float = 0.0
+    certificate: tuple[tuple[float, float], ...] = ()
+    blade: FlatPlateBlade = FlatPlateBlade()
+
+    KEYS = COMMON_KEYS + (
+        Key("tip_diameter_mm", "float", unit="mm", default=None, positive=True,
+            description="rotor diameter over the blade tips"),
+        Key("hub_diameter_mm", "float", unit="mm", default=0.0, non_negative=True,
+            description="diameter at the inner end of the blades"),
+        Key("blades", "int", default=None, positive=True, description="number of blades"),
+        Key("pitch_mm", "float", unit="mm", default=None, positive=True,
+            description="helical pitch: axial advance per revolution at zero slip"),
+        Key("blade_angle_deg", "float", default=None, check=_check_angle,
+            description="blade angle to the rotation plane, in degrees (instead of pitch_mm)"),
+        Key("blade_angle_at_mm", "float", unit="mm", default=None, positive=True,
+            description="radius at which blade_angle_deg is stated"),
+        Key("chord_mm", "float", unit="mm", default=None, positive=True, description="blade chord"),
+        Key("friction_torque_Nm", "float", unit="N m", default=0.0, non_negative=True,
+            description="bearing friction torque (Coulomb)"),
+        Key("certificate", "list[pair]", unit="m/s", default=None, non_negative=True,
+            description="uniform-flow calibration pairs [indicated, true] in m/s"),
+    )
+
+    def __post_init__(self):
+        for name in ("nominal_area", "tip_diameter", "pitch", "chord", "air_density"):
+            _positive(getattr(self, name), name)
+        if not 0.0 <= self.hub_diameter < self.tip_diameter:
+            raise ValueError("VaneAnemometer.hub_diameter: must be >= 0 and smaller than tip_diameter")
+        if self.blades < 1 or self.friction_torque < 0.0:
+            raise ValueError("VaneAnemometer: need blades >= 1 and friction_torque >= 0")
+        if self.certificate:
+            object.__setattr__(self, "certificate", _check_certificate(self.certificate))
+
+    @classmethod
+    def from_case(cls, values, *, nominal_area, base_dir, air_density):
+        for name in ("tip_diameter_mm", "blades", "chord_mm"):
+            if values[name] is None:
+                raise CaseError(f"instrument.{name}", f"missing; the vane kind needs {name}")
+        tip, hub = values["tip_diameter_mm"], values["hub_diameter_mm"]
+        if hub >= tip:
+            raise CaseError("instrument.hub_diameter_mm", "must be smaller than tip_diameter_mm")
+        by_pitch = values["pitch_mm"] is not None
+        by_angle = (values["blade_angle_deg"], values["blade_angle_at_mm"])
+        if by_pitch == any(x is not None for x in by_angle) or (not by_pitch and None in by_angle):
+            raise CaseError("instrument.pitch_mm", "give either pitch_mm, or both blade_angle_deg and "
+                            "blade_angle_at_mm (the blade angle to the rotation plane at a radius), not both")
+        pitch = values["pitch_mm"] if by_pitch else \
+            2.0 * math.pi * by_angle[1] * math.tan(math.radians(by_angle[0]))
+        certificate = _check_certificate(values["certificate"]) if values["certificate"] else ()
+        return cls(nominal_area=nominal_area, tip_diameter=tip, hub_diameter=hub, blades=values["blades"],
+                   pitch=pitch, chord=values["chord_mm"], air_density=air_density,
+                   friction_torque=values["friction_torque_Nm"], certificate=certificate)
+
+    # --- geometry -------------------------------------------------------------------------
+    @cached_property
+    def stations(self) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
+        """Station radii (m), trapezoid weights (m) and blade angles theta (rad), hub to tip."""
+        r = np.linspace(0.5 * self.hub_diameter, 0.5 * self.tip_diameter, STATIONS)
+        weight = np.full(STATIONS, r[1] - r[0])
+        weight[[0, -1]] *= 0.5
+        theta = np.arctan2(self.pitch, 2.0 * math.pi * r)
+        return r, weight, theta
+
+    def blade_angle(self, r) -> np.ndarray:
+        """theta(r) = atan(P / (2 pi r)), rad."""
+        return np.arctan2(self.pitch, 2.0 * math.pi * np.asarray(r, dtype=float))
+
+    # --- torque ---------------------------------------------------------------------------
+    def _torque(self, omega, u, v) -> float:
+        r, weight, theta = self.stations
+        b = self.blade
+        total = rotor_torque(float(omega), r, weight, u, v, theta, b.cd0, b.cd90,
+                             math.sin(b.stall_angle) ** 2, b.blend_width)
+        return 0.5 * self.air_density * self.blades * self.chord * total
+
+    def _station_velocities(self, profile) -> tuple[np.ndarray, np.ndarray]:
+        r = self.stations[0]
+        if r[0] < profile.r_inner - 1e-12 or r[-1] > profile.wall_radius * (1.0 + 1e-12):
+            raise ValueError(f"vane: rotor {r[0]:.4g}..{r[-1]:.4g} m does not fit the rotor-plane profile "
+                             f"{profile.r_inner:.4g}..{profile.wall_radius:.4g} m")
+        return profile.interpolate(np.clip(r, profile.r[0], profile.r[-1]))
+
+    def aerodynamic_torque(self, profile, omega: float) -> float:
+        """Aerodynamic torque on the rotor (N m) at rotor speed ``omega`` (rad/s) in ``profile``."""
+        return self._torque(omega, *self._station_velocities(profile))
+
+    def uniform_torque(self, omega: float, U: float) -> float:
+        """Aerodynamic torque (N m) in uniform axial flow U (m/s) at rotor speed omega (rad/s)."""
+        u = np.full(STATIONS, float(U))
+        return self._torque(omega, u, np.zeros(STATIONS))
+
+    # --- equilibrium ----------------------------------------------------------------------
+    def _equilibrium(self, u, v) -> float:
+        """Free-running omega (rad/s) reached from rest; 0.0 if the rotor does not start."""
+        start = self._torque(0.0, u, v)
+        if abs(start) <= self.friction_torque:
+            return 0.0
+        s = 1.0 if start > 0.0 else -1.0
+        speed = float(np.max(np.abs(u)))
+        scale = 2.0 * math.pi * speed / self.pitch
+        return s * _first_root(lambda w: s * self._torque(s * w, u, v) - self.friction_torque, scale)
+
+    def rotor_speed(self, profile) -> float:
+        """Free-running rotor speed (rad/s) in ``profile``; negative = backward; 0 = not turning."""
+        return self._equilibrium(*self._station_velocities(profile))
+
+    def uniform_rotor_speed(self, U: float) -> float:
+        """Free-running rotor speed (rad/s) in uniform axial flow U (m/s)."""
+        return self._equilibrium(np.full(STATIONS, float(U)), np.zeros(STATIONS))
+
+    def equivalent_uniform_speed(self, omega: float) -> float:
+        """Uniform speed U_eq (m/s) whose free-running rotor speed is |omega|: the calibration inverse.
+
+        The uniform-flow curve omega_cal(U) rises strictly with U (the torque is U^2 q(omega/U),
+        and the first equilibrium met from rest moves out as Q_f/U^2 falls), though it can jump
+        where the spin-up equilibrium leaves the stalled branch. U_eq = inf{U: omega_cal(U) >= |omega|}
+        is therefore unique; brentq finds it (at a jump it converges to the jump).
+        """
+        w = abs(float(omega))
+        if w == 0.0:
+            return 0.0
+        U_low = self.starting_speed
+        U_high = 2.0 * max(w / self.frictionless_speed_ratio, U_low)
+        for _ in range(60):
+            if self.uniform_rotor_speed(U_high) >= w:
+                break
+            U_low, U_high = U_high, 2.0 * U_high
+        else:
+            raise ArithmeticError(f"vane: no uniform speed turns the rotor at {w:g} rad/s")
+        return brentq(lambda U: self.uniform_rotor_speed(U) - w, U_low, U_high, xtol=1e-15 * U_high,
+                      rtol=1e-14)
+
+    @cached_property
+    def frictionless_speed_ratio(self) -> float:
+        """omega/U (rad/m) of the frictionless rotor in uniform flow: an upper bound on omega_cal(U)/U."""
+        return replace(self, friction_torque=0.0, certificate=()).uniform_rotor_speed(1.0)
+
+    @cached_property
+    def starting_speed(self) -> float:
+        """Uniform speed (m/s) at which the stopped rotor's torque equals the friction torque."""
+        return math.sqrt(self.friction_torque / self.uniform_torque(0.0, 1.0))
+
+    def display(self, U_eq: float) -> float:
+        """Displayed reading (m/s) for an equivalent uniform speed U_eq >= 0 (certificate applied)."""
+        if not self.certificate or U_eq == 0.0:
+            return U_eq
+        indicated, true = np.array(self.certificate).T
+        return max(_interp_extrapolated(U_eq, true, indicated), 0.0)
+
+    def solve(self, profile) -> VaneState:
+        """Rotor speed, equivalent uniform speed and displayed reading in ``profile``."""
+        omega = self.rotor_speed(profile)
+        U_eq = self.equivalent_uniform_speed(omega)
+        return VaneState(omega=omega, equivalent_uniform_speed=U_eq,
+                         indicated=math.copysign(self.display(U_eq), omega), turning=omega != 0.0)
+
+    def indicated_velocity(self, profile) -> float:
+        return self.solve(profile).indicated
+
+    def perturbations(self) -> dict[str, Instrument]:
+        d_tip, d_hub = TIP_DIAMETER_TOLERANCE, HUB_DIAMETER_TOLERANCE
+        copies = {
+            "tip_diameter+": replace(self, tip_diameter=self.tip_diameter + d_tip),
+            "tip_diameter-": replace(self, tip_diameter=self.tip_diameter - d_tip),
+            "pitch+": replace(self, pitch=self.pitch * (1.0 + PITCH_RELATIVE_TOLERANCE)),
+            "pitch-": replace(self, pitch=self.pitch * (1.0 - PITCH_RELATIVE_TOLERANCE)),
+            "chord+": replace(self, chord=self.chord * (1.0 + CHORD_RELATIVE_TOLERANCE)),
+            "chord-": replace(self, chord=self.chord * (1.0 - CHORD_RELATIVE_TOLERANCE)),
+            "hub_diameter+": replace(self, hub_diameter=self.hub_diameter + d_hub),
+        }
+        if self.hub_diameter >= d_hub:
+            copies["hub_diameter-"] = replace(self, hub_diameter=self.hub_diameter - d_hub)
+        return copies

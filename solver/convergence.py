@@ -40,9 +40,11 @@ class ConvergenceMonitor:
         for name, value in {**residuals, **monitors}.items():
             if not math.isfinite(value):
                 raise DivergenceError(iteration, residuals, self.history(), f"{name} is not finite")
+        if iteration <= 10:
+            return  # the first iterations start from a trivial field: no meaningful minimum yet
         for name, value in residuals.items():
             best = self.best.get(name, value)
-            if iteration > 10 and value > self.divergence_factor * best:
+            if best > 0.0 and value > self.divergence_factor * best:
                 raise DivergenceError(iteration, residuals, self.history(),
                                       f"{name} residual grew {value / best:.1e} times its minimum")
             self.best[name] = min(best, value)

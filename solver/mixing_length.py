@@ -2,7 +2,7 @@
 
 Model (all lengths in m, velocities in m/s, ν_t in m²/s):
 
-    ν_t = l² |S|                                   (Prandtl 1925)
+    ν_t = l² |S|                                   (Prandtl 1925) [from memory]
     l   = R · f_N(y/R) · D(y⁺)        inside a duct of local radius R > 0
     l   = min(κ y, λ δ) · D(y⁺)       in open regions (no duct radius), Escudier (1966)
     f_N(η) = 0.14 − 0.08 (1 − η)² − 0.06 (1 − η)⁴   (Nikuradse 1932, as given by Schlichting)
@@ -93,8 +93,9 @@ _PUBLISHED_RANGES = {
               "[from memory])"),
     "a_plus": (25.0, 27.0, "van Driest 1956 A+ = 26; Cess/Reynolds & Tiederman fits A+ ≈ 25.4 "
                "[from memory]"),
-    "escudier_lambda": (0.075, 0.09, "Escudier 1966 / Launder & Spalding 1972 λ = 0.09; 0.075 for "
-                        "free shear layers [from memory]"),
+    "escudier_lambda": (0.075, 0.09, "Escudier 1966 / Launder & Spalding 1972 λ = 0.09 [from memory]; "
+                        "lower end 0.075 (smaller values quoted for free shear layers) [from memory, "
+                        "not checked]"),
 }
 
 

@@ -1,0 +1,50 @@
+"""Verification cases with known answers, shared by the benchmark and the command line.
+
+Each function builds, solves and returns (solution, {figure: value}) for one case; the tests in
+``tests/validation`` assert the bounds, these functions only compute.
+"""
+from __future__ import annotations
+
+import numpy as np
+
+from geometry.pipes import straight_pipe
+
+from .boundary import Axis, FixedFlowOutlet, PressureOutlet, VelocityInlet, Wall
+from .flow import FlowProblem, SolverSettings, solve
+
+
+def hagen_poiseuille(axial_cells: int = 40, radial_cells: int = 20):
+    """Developed laminar pipe at Re_D = 1: profile L2 error and Darcy f Re (exact: 64)."""
+    radius, length, mu, rho, bulk = 0.01, 0.2, 1e-3, 1.0, 0.05
+    mesh = straight_pipe(length, radius, axial_cells, radial_cells, wall_ratio=3.0, blocks=2)
+    exact = lambda x, r: np.column_stack([2 * bulk * (1 - (r / radius) ** 2), 0 * r])
+    problem = FlowProblem(mesh, rho, mu, {"inlet": VelocityInlet(profile=exact), "outlet": PressureOutlet(0.0),
+                                          "wall": Wall(), "axis": Axis()})
+    sol = solve(problem, SolverSettings(max_iterations=500))
+    c, vol = mesh.cell_centre, mesh.cell_volume
+    u_exact = 2 * bulk * (1 - (c[:, 1] / radius) ** 2)
+    l2 = np.sqrt(((sol.state.u - u_exact) ** 2 * vol).sum() / (u_exact**2 * vol).sum())
+    band = [np.abs(c[:, 0] - x) < 0.003 for x in (0.05, 0.15)]
+    p1, p2 = (np.average(sol.state.p[b], weights=vol[b]) for b in band)
+    dx = c[band[1], 0].mean() - c[band[0], 0].mean()
+    f_re = (p1 - p2) / dx * 2 * radius / (0.5 * rho * bulk**2) * rho * bulk * 2 * radius / mu
+    return sol, {"profile_l2_error": float(l2), "f_times_Re": float(f_re)}
+
+
+def developing_laminar(reynolds: float = 500.0, axial_cells: int = 150, radial_cells: int = 36):
+    """Uniform inlet into a pipe of 0.1 Re diameters: entrance length (x where u_c = 0.99 x 2 U_b)."""
+    diameter, bulk, rho = 1.0, 1.0, 1.0
+    mesh = straight_pipe(0.1 * reynolds * diameter, diameter / 2, axial_cells, radial_cells,
+                         wall_ratio=4, axial_ratio=10)
+    problem = FlowProblem(mesh, rho, rho * bulk * diameter / reynolds,
+                          {"inlet": VelocityInlet(velocity=(bulk, 0.0)),
+                           "outlet": FixedFlowOutlet(flow=np.pi * diameter**2 / 4 * bulk),
+                           "wall": Wall(), "axis": Axis()})
+    sol = solve(problem, SolverSettings(max_iterations=1000))
+    axis_cells = mesh.owner[mesh.patch_faces("axis")]
+    length = np.interp(0.99 * 2 * bulk, sol.state.u[axis_cells], mesh.cell_centre[axis_cells, 0])
+    durst = diameter * (0.619**1.6 + (0.0567 * reynolds) ** 1.6) ** (1 / 1.6)
+    return sol, {"entrance_length_D": float(length / diameter), "durst_2005_D": float(durst / diameter)}
+
+
+CASES = {"hagen-poiseuille": hagen_poiseuille, "developing-laminar": developing_laminar}
