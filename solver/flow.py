@@ -88,8 +88,8 @@ class FlowState:
 class FlowProblem:
     """A mesh, the fluid, a condition on every boundary patch, and optional closure and sources.
 
-    ``closure``: object with ``effective_viscosity(problem, state, gradients) -> mu_eff`` (cells), or None
-    for laminar flow. ``body_force(mesh) -> (n_cells, 2)`` force per unit volume (N/m^3), e.g. for
+    ``closure``: object with ``effective_viscosity(problem, state, (grad_u, grad_v)) -> mu_eff`` (cells),
+    or None for laminar flow (see :mod:`solver.closure`). ``body_force(mesh) -> (n_cells, 2)`` force per unit volume (N/m^3), e.g. for
     manufactured solutions. ``monitors``: name -> function(problem, state) -> float, checked for convergence.
     """
 
@@ -319,10 +319,10 @@ def solve(problem: FlowProblem, settings: SolverSettings = SolverSettings(), ini
                                  settings.monitor_window, settings.divergence_factor)
     converged = False
     for iteration in range(1, settings.max_iterations + 1):
-        if problem.closure is not None:
-            state.mu_eff = problem.closure.effective_viscosity(problem, state, it)
-        mu_f = it.face_viscosity()
         grads = it.gradients()
+        if problem.closure is not None:
+            state.mu_eff = problem.closure.effective_viscosity(problem, state, grads)
+        mu_f = it.face_viscosity()
         (res_u, res_v), d_rc, d_simplec = it.momentum(grads, mu_f)
         res_p = it.continuity(d_rc, d_simplec)
         residuals = {"u": res_u, "v": res_v, "continuity": res_p}

@@ -48,3 +48,49 @@ def developing_laminar(reynolds: float = 500.0, axial_cells: int = 150, radial_c
 
 
 CASES = {"hagen-poiseuille": hagen_poiseuille, "developing-laminar": developing_laminar}
+
+
+def pipe_wall_data(mesh):
+    """Exact wall distance (R - r) and nearest wall face of every cell of a straight pipe mesh."""
+    from .closure import MixingLengthClosure  # noqa: F401  (documents the consumer)
+    wall = mesh.patch_faces("wall")
+    radius = float(mesh.face_centre[wall, 1].max())
+    order = np.argsort(mesh.face_centre[wall, 0])
+    xs = mesh.face_centre[wall[order], 0]
+    x = mesh.cell_centre[:, 0]
+    k = np.clip(np.searchsorted(xs, x), 1, len(xs) - 1)
+    nearest = np.where(np.abs(xs[k] - x) < np.abs(xs[k - 1] - x), k, k - 1)
+    return wall, radius - mesh.cell_centre[:, 1], order[nearest], radius
+
+
+def turbulent_pipe(reynolds: float = 1e5, length_D: float = 10.0, axial_cells: int = 40, radial_cells: int = 50,
+                   uniform_inlet: bool = False, axial_ratio: float = 1.0, constants=None):
+    """Wall-resolved turbulent pipe (air, D = 50 mm) with the mixing-length closure, y+ <= 1 at the wall.
+
+    Inlet: the 1D developed profile of :func:`solver.pipe1d.developed_pipe` (or a uniform velocity);
+    outlet at ambient static pressure.
+    """
+    from geometry.blocks import Spacing
+    from geometry.wall_spacing import first_cell_height
+
+    from .closure import MixingLengthClosure
+    from .mixing_length import MixingLengthConstants
+    from .pipe1d import developed_pipe
+
+    constants = constants or MixingLengthConstants()
+    diameter, nu, rho = 0.05, 1.5e-5, 1.2
+    bulk = reynolds * nu / diameter
+    spacing = Spacing.from_first(radial_cells, diameter / 2, first_cell_height(1.0, bulk, diameter, nu))
+    mesh = straight_pipe(length_D * diameter, diameter / 2, axial_cells, radial_cells,
+                         wall_ratio=spacing.ratio, axial_ratio=axial_ratio)
+    developed = developed_pipe(reynolds, D=diameter, nu=nu, constants=constants)
+    if uniform_inlet:
+        inlet = VelocityInlet(velocity=(bulk, 0.0))
+    else:
+        inlet = VelocityInlet(profile=lambda x, r: np.column_stack([developed.profile_at(r), 0 * r]))
+    wall, distance, nearest, radius = pipe_wall_data(mesh)
+    closure = MixingLengthClosure(wall, distance, nearest, np.full(mesh.n_cells, radius), radius, constants)
+    problem = FlowProblem(mesh, rho, rho * nu, {"inlet": inlet, "outlet": PressureOutlet(0.0), "wall": Wall(),
+                                                "axis": Axis()}, closure=closure)
+    sol = solve(problem, SolverSettings(max_iterations=4000))
+    return sol, developed

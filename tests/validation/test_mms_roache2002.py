@@ -36,7 +36,7 @@ class ManufacturedViscosity:
     def __init__(self, mu):
         self.mu = mu
 
-    def effective_viscosity(self, problem, state, iteration):
+    def effective_viscosity(self, problem, state, gradients):
         c = problem.mesh.cell_centre
         return self.mu(c[:, 0], c[:, 1])
 

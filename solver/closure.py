@@ -1,0 +1,88 @@
+"""Turbulence closures for the 2D solver, one small class per closure in the ``CLOSURES`` registry.
+
+A closure turns the current velocity gradients into the effective viscosity mu_eff = mu + rho nu_t.
+
+``mixing-length``: nu_t = l^2 |S| with
+    |S|^2 = 2 [(du/dx)^2 + (dv/dr)^2 + (v/r)^2] + (du/dr + dv/dx)^2   (hoop strain v/r included),
+l from :func:`solver.mixing_length.mixing_length_kernel` (Nikuradse in ducts, Escudier cap in open
+regions, van Driest damping), y the exact distance to the nearest wall face and y+ from that face's
+wall shear (tau_w = mu |u_t| / dn of its wall cell). nu_t is under-relaxed between outer iterations.
+Assumptions: equilibrium (no transport of turbulence), smooth walls resolved to y+ ~ 1, no wall functions.
+"""
+from __future__ import annotations
+
+from dataclasses import dataclass, field
+
+import numpy as np
+
+from .jit import jit
+from .mixing_length import MixingLengthConstants, kernel_arguments, mixing_length_kernel
+
+
+@jit
+def wall_friction_velocity(owner, wall_faces, normal, dn, u, v, nu, out):
+    """u_tau of each wall face from the tangential velocity of its cell: sqrt(nu |u_t| / dn)."""
+    for k in range(len(wall_faces)):
+        f = wall_faces[k]
+        p = owner[f]
+        un = u[p] * normal[f, 0] + v[p] * normal[f, 1]
+        ut = np.hypot(u[p] - un * normal[f, 0], v[p] - un * normal[f, 1])
+        out[k] = np.sqrt(nu * ut / dn[f])
+
+
+@jit
+def mixing_length_viscosity(grad_u, grad_v, v, radius, wall_distance, nearest_wall, u_tau, duct_radius,
+                            open_delta, nu, kappa, a_plus, c0, c2, c4, lam, out):
+    """nu_t = l^2 |S| per cell (m^2/s)."""
+    for c in range(len(v)):
+        hoop = v[c] / radius[c]
+        s2 = (2.0 * (grad_u[c, 0] ** 2 + grad_v[c, 1] ** 2 + hoop * hoop)
+              + (grad_u[c, 1] + grad_v[c, 0]) ** 2)
+        y = wall_distance[c]
+        y_plus = y * u_tau[nearest_wall[c]] / nu
+        length = mixing_length_kernel(y, y_plus, duct_radius[c], open_delta, kappa, a_plus, c0, c2, c4, lam)
+        out[c] = length * length * np.sqrt(s2)
+
+
+@dataclass(eq=False)
+class LaminarClosure:
+    """No turbulence model: mu_eff = mu."""
+
+    kind = "laminar"
+
+    def effective_viscosity(self, problem, state, gradients):
+        return np.full(problem.mesh.n_cells, problem.viscosity)
+
+
+@dataclass(eq=False)
+class MixingLengthClosure:
+    """Prandtl mixing length with van Driest damping (see module docstring).
+
+    ``wall_faces``: global indices of all wall faces; ``wall_distance`` and ``nearest_wall`` (an index into
+    ``wall_faces``) per cell; ``duct_radius`` per cell (<= 0 in open regions); ``open_delta`` the length
+    scale of the Escudier cap in open regions (m).
+    """
+
+    wall_faces: np.ndarray
+    wall_distance: np.ndarray
+    nearest_wall: np.ndarray
+    duct_radius: np.ndarray
+    open_delta: float
+    constants: MixingLengthConstants = field(default_factory=MixingLengthConstants)
+    kind = "mixing-length"
+
+    def effective_viscosity(self, problem, state, gradients):
+        mesh, geo = problem.mesh, problem.geometry
+        nu = problem.viscosity / problem.density
+        u_tau = np.empty(len(self.wall_faces))
+        wall_friction_velocity(mesh.owner, self.wall_faces, mesh.face_normal, geo.dn, state.u, state.v, nu, u_tau)
+        nu_t = np.empty(mesh.n_cells)
+        mixing_length_viscosity(gradients[0], gradients[1], state.v, mesh.cell_centre[:, 1], self.wall_distance,
+                                self.nearest_wall, u_tau, self.duct_radius, self.open_delta, nu,
+                                *kernel_arguments(self.constants), nu_t)
+        mu_t_old = np.maximum(state.mu_eff - problem.viscosity, 0.0)
+        alpha = self.constants.nu_t_relaxation
+        return problem.viscosity + (1.0 - alpha) * mu_t_old + alpha * problem.density * nu_t
+
+
+CLOSURES = {"laminar": LaminarClosure, "mixing-length": MixingLengthClosure}
