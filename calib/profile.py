@@ -117,8 +117,12 @@ class RotorPlaneProfile:
 
     @property
     def centre_velocity(self) -> float:
-        """Axial velocity at r[0]: the centre line, or the hub edge for an annulus, m/s."""
-        return float(self.u[0])
+        """Axial velocity on the centre line, m/s. For an annulus (a hub), whose inner edge is a no-slip
+        wall, the value at the radius that splits the annulus into equal areas, sqrt((Ri^2 + R^2)/2)."""
+        if self.r_inner <= 0.0:
+            return float(self.u[0])
+        mid = np.sqrt(0.5 * (self.r_inner**2 + self.r[-1] ** 2))
+        return float(np.interp(mid, self.r, self.u))
 
     def _mean_or_fail(self, what: str) -> float:
         mean = self.area_mean

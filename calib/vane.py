@@ -269,10 +269,14 @@ class VaneAnemometer(Instrument):
 
     def _station_velocities(self, profile) -> tuple[np.ndarray, np.ndarray]:
         r = self.stations[0]
-        if r[0] < profile.r_inner - 1e-12 or r[-1] > profile.wall_radius * (1.0 + 1e-12):
-            raise ValueError(f"vane: rotor {r[0]:.4g}..{r[-1]:.4g} m does not fit the rotor-plane profile "
-                             f"{profile.r_inner:.4g}..{profile.wall_radius:.4g} m")
-        return profile.interpolate(np.clip(r, profile.r[0], profile.r[-1]))
+        if r[-1] > profile.wall_radius * (1.0 + 1e-12):
+            raise ValueError(f"vane: rotor tip {r[-1]:.4g} m is outside the rotor-plane profile "
+                             f"(wall at {profile.wall_radius:.4g} m)")
+        u, v = profile.interpolate(np.clip(r, profile.r[0], profile.r[-1]))
+        # Blade roots inside a fixture's hub body (a toleranced rotor hub slightly smaller than the
+        # modelled hub) sit in still air against the hub surface.
+        inside_hub = r < profile.r_inner
+        return np.where(inside_hub, 0.0, u), np.where(inside_hub, 0.0, v)
 
     def aerodynamic_torque(self, profile, omega: float) -> float:
         """Aerodynamic torque on the rotor (N m) at rotor speed ``omega`` (rad/s) in ``profile``."""

@@ -24,7 +24,7 @@ from geometry.mesh import Mesh
 from . import kernels as K
 from .boundary import BoundaryCondition, FaceContext
 from .convergence import ConvergenceMonitor, DivergenceError
-from .linear import CellMatrixPattern, solve_direct
+from .linear import CellMatrixPattern, linear_solvers
 
 
 @dataclass(frozen=True)
@@ -40,6 +40,7 @@ class SolverSettings:
     pressure_relaxation: float = 1.0
     second_order: bool = True
     divergence_factor: float = 1e6
+    linear_solver: str = "iterative"  # key of solver.linear.LINEAR_SOLVERS; "direct" = sparse LU
 
 
 @dataclass(frozen=True, eq=False)
@@ -58,9 +59,11 @@ class FaceGeometry:
         d = mesh.face_centre - c[mesh.owner]
         d[:n_int] = c[mesh.neighbour[:n_int]] - c[mesh.owner[:n_int]]
         dn = np.einsum("ij,ij->i", d, mesh.face_normal)
+        # Distance weights stay in (0, 1) on skewed cells, where projections onto d need not.
         w = np.ones(mesh.n_faces)
-        to_face = mesh.face_centre[:n_int] - c[mesh.owner[:n_int]]
-        w[:n_int] = 1.0 - np.einsum("ij,ij->i", to_face, d[:n_int]) / np.einsum("ij,ij->i", d[:n_int], d[:n_int])
+        to_owner = np.linalg.norm(mesh.face_centre[:n_int] - c[mesh.owner[:n_int]], axis=1)
+        to_neighbour = np.linalg.norm(mesh.face_centre[:n_int] - c[mesh.neighbour[:n_int]], axis=1)
+        w[:n_int] = to_neighbour / (to_owner + to_neighbour)
         inverse = np.empty((mesh.n_cells, 2, 2))
         K.least_squares_matrices(mesh.owner, mesh.neighbour, n_int, d, mesh.n_cells, inverse)
         return cls(d, dn, w, inverse)
@@ -91,6 +94,8 @@ class FlowProblem:
     ``closure``: object with ``effective_viscosity(problem, state, (grad_u, grad_v)) -> mu_eff`` (cells),
     or None for laminar flow (see :mod:`solver.closure`). ``body_force(mesh) -> (n_cells, 2)`` force per unit volume (N/m^3), e.g. for
     manufactured solutions. ``monitors``: name -> function(problem, state) -> float, checked for convergence.
+    ``resistance`` (n_cells,) kg/(m^3 s): a porous drag force -resistance * U per unit volume, implicit
+    (a thin porous layer models a rotor's pressure loss).
     """
 
     mesh: Mesh
@@ -100,6 +105,7 @@ class FlowProblem:
     closure: object | None = None
     body_force: Callable[[Mesh], np.ndarray] | None = None
     monitors: dict[str, Callable] = field(default_factory=dict)
+    resistance: np.ndarray | None = None
 
     def __post_init__(self):
         missing = set(self.mesh.patches) - set(self.boundaries)
@@ -176,6 +182,7 @@ class _Iteration:
         self.vel_a = np.zeros((self.nb, 2))
         self.vel_b = np.ones((self.nb, 2))
         self.grad_p = np.zeros((m.n_cells, 2))
+        self.momentum_solver, self.pressure_solver = linear_solvers(settings.linear_solver, problem.pattern)
         self.update_boundaries(first=True)
 
     def context(self, sl) -> FaceContext:
@@ -238,6 +245,8 @@ class _Iteration:
                              self.vel_b[:, comp].copy(), dg, rhs)
             if comp == 1:
                 dg += st.mu_eff * self.hoop
+            if self.pb.resistance is not None:
+                dg += self.pb.resistance * m.cell_volume
             if s.second_order:
                 K.explicit_face_terms(m.owner, m.neighbour, self.n_int, g.w, g.d, g.dn, m.face_normal,
                                       m.face_area, st.mass_flux, mu_f, phi, grads[comp], grads[0], grads[1],
@@ -248,7 +257,7 @@ class _Iteration:
             residuals.append(np.abs(residual).sum() / scale)
             rhs_relaxed = rhs + (1.0 - alpha) / alpha * dg * phi
             A = self.pb.pattern.matrix(dg / alpha, off)
-            solutions.append(solve_direct(A, rhs_relaxed))
+            solutions.append(self.momentum_solver.solve(A, rhs_relaxed, phi))
             diags.append(dg / alpha)
         st.u, st.v = solutions
         neighbours_sum = (np.bincount(m.owner[:self.n_int], -off[:, 0], m.n_cells)
@@ -278,7 +287,7 @@ class _Iteration:
                                            d_simplec, self.is_pressure_face, diag, off, coef)
         if not self.is_pressure_face.any():
             diag[0] += diag.sum()  # pin the pressure level: no boundary fixes it
-        p_corr = solve_direct(self.pb.pattern.matrix(diag, off), -imbalance)
+        p_corr = self.pressure_solver.solve(self.pb.pattern.matrix(diag, off), -imbalance)
         K.correct_flux(m.owner, m.neighbour, self.n_int, coef, p_corr, st.mass_flux)
         own_b = m.owner[self.n_int:]
         pc_face = np.where(self.is_pressure_face, 0.0, p_corr[own_b])

@@ -7,6 +7,7 @@ import numpy as np
 import scipy.sparse as sp
 import scipy.sparse.linalg as spla
 
+from .jit import jit
 from .kernels import scatter_matrix
 
 
@@ -46,3 +47,226 @@ def solve_direct(matrix: sp.csr_matrix, rhs: np.ndarray | list[np.ndarray]):
     if isinstance(rhs, list):
         return [lu.solve(b) for b in rhs]
     return lu.solve(rhs)
+
+
+# --- Iterative solvers for the SIMPLEC outer loop ------------------------------------------------------------
+# The outer iteration only needs each linear system solved loosely: the converged answer is fixed by the
+# discrete equations' residuals, not by the inner tolerance (which only changes the path to it).
+
+
+@jit
+def ilu0_factor(indptr, indices, diag_pos, data, lu):
+    """ILU(0) of a CSR matrix with sorted indices, in place into ``lu``: L (unit, below diag) and U share the
+    pattern of A; fill outside the pattern is dropped (Saad 2003, Algorithm 10.4, IKJ variant)."""
+    lu[:] = data
+    for i in range(len(indptr) - 1):
+        end = indptr[i + 1]
+        for kk in range(indptr[i], diag_pos[i]):
+            k = indices[kk]
+            lu[kk] /= lu[diag_pos[k]]
+            factor = lu[kk]
+            p = kk + 1
+            for jj in range(diag_pos[k] + 1, indptr[k + 1]):
+                j = indices[jj]
+                while p < end and indices[p] < j:
+                    p += 1
+                if p < end and indices[p] == j:
+                    lu[p] -= factor * lu[jj]
+
+
+@jit
+def ilu0_apply(indptr, indices, diag_pos, lu, rhs, out):
+    """z = (LU)^-1 r by forward then backward substitution on the ILU(0) factors."""
+    n = len(indptr) - 1
+    for i in range(n):
+        s = rhs[i]
+        for kk in range(indptr[i], diag_pos[i]):
+            s -= lu[kk] * out[indices[kk]]
+        out[i] = s
+    for i in range(n - 1, -1, -1):
+        s = out[i]
+        for kk in range(diag_pos[i] + 1, indptr[i + 1]):
+            s -= lu[kk] * out[indices[kk]]
+        out[i] = s / lu[diag_pos[i]]
+
+
+@jit
+def csr_matvec(indptr, indices, data, x, out):
+    """out = A x for a CSR matrix."""
+    for i in range(len(indptr) - 1):
+        s = 0.0
+        for kk in range(indptr[i], indptr[i + 1]):
+            s += data[kk] * x[indices[kk]]
+        out[i] = s
+
+
+@dataclass
+class SolveStats:
+    """Counters of one solver over a run: calls, Krylov iterations, factorisations, direct fallbacks."""
+
+    calls: int = 0
+    iterations: int = 0
+    factorisations: int = 0
+    fallbacks: int = 0
+
+
+class DirectSolver:
+    """Every system by sparse LU (:func:`solve_direct`); the reference the iterative solvers are checked against."""
+
+    def __init__(self, pattern: CellMatrixPattern):
+        self.stats = SolveStats()
+
+    def solve(self, matrix: sp.csr_matrix, rhs: np.ndarray, guess: np.ndarray | None = None) -> np.ndarray:
+        self.stats.calls += 1
+        self.stats.factorisations += 1
+        return solve_direct(matrix, rhs)
+
+
+class MomentumSolver:
+    """ILU(0)-preconditioned BiCGSTAB (van der Vorst 1992) for the non-symmetric momentum systems.
+
+    Warm-started from ``guess`` (the current velocity field): it solves A dx = r0 = b - A x0 until
+    ||r|| <= ``tolerance`` ||r0||, then returns x0 + dx. If that fails within ``max_iterations`` it falls back
+    to :func:`solve_direct`, so a hard system costs time, never accuracy.
+    """
+
+    def __init__(self, pattern: CellMatrixPattern, tolerance: float = 1e-2, max_iterations: int = 200):
+        self.pattern, self.tolerance, self.max_iterations = pattern, tolerance, max_iterations
+        self.lu = np.empty(len(pattern.indices))
+        self.stats = SolveStats()
+
+    def solve(self, matrix: sp.csr_matrix, rhs: np.ndarray, guess: np.ndarray | None = None) -> np.ndarray:
+        pt = self.pattern
+        _check_layout(pt, matrix)
+        self.stats.calls += 1
+        x0 = np.zeros(pt.n) if guess is None else np.asarray(guess, dtype=np.float64)
+        r0 = rhs - _matvec(pt, matrix.data, x0)
+        ilu0_factor(pt.indptr, pt.indices, pt.diag_pos, matrix.data, self.lu)
+        dx, iterations = _bicgstab(pt, matrix.data, self.lu, r0, self.tolerance, self.max_iterations)
+        self.stats.iterations += iterations
+        if dx is None:
+            self.stats.fallbacks += 1
+            return solve_direct(matrix, rhs)
+        return x0 + dx
+
+
+def _check_layout(pt: CellMatrixPattern, matrix: sp.csr_matrix):
+    """The kernels read ``matrix.data`` in the pattern's CSR slots: refuse any other layout."""
+    if not (matrix.shape == (pt.n, pt.n) and np.array_equal(matrix.indptr, pt.indptr)
+            and np.array_equal(matrix.indices, pt.indices)):
+        raise ValueError("matrix must be built by CellMatrixPattern.matrix of the solver's own pattern")
+
+
+def _matvec(pt: CellMatrixPattern, data: np.ndarray, x: np.ndarray) -> np.ndarray:
+    out = np.empty(pt.n)
+    csr_matvec(pt.indptr, pt.indices, data, x, out)
+    return out
+
+
+def _bicgstab(pt, data, lu, b, tolerance, max_iterations):
+    """Right-preconditioned BiCGSTAB for A x = b from x = 0; returns (x, iterations), x None on failure."""
+    x = np.zeros(pt.n)
+    target = tolerance * np.linalg.norm(b)
+    if target == 0.0:
+        return x, 0
+    r = b.copy()
+    r_hat = b.copy()
+    p, v = np.zeros(pt.n), np.zeros(pt.n)
+    p_hat, s_hat = np.empty(pt.n), np.empty(pt.n)
+    rho_old = alpha = omega = 1.0
+    for k in range(1, max_iterations + 1):
+        rho = r_hat @ r
+        if rho == 0.0 or omega == 0.0:
+            return None, k
+        p = r + (rho / rho_old) * (alpha / omega) * (p - omega * v)
+        ilu0_apply(pt.indptr, pt.indices, pt.diag_pos, lu, p, p_hat)
+        v = _matvec(pt, data, p_hat)
+        rv = r_hat @ v
+        if rv == 0.0:
+            return None, k
+        alpha = rho / rv
+        s = r - alpha * v
+        x += alpha * p_hat
+        if np.linalg.norm(s) <= target:
+            return x, k
+        ilu0_apply(pt.indptr, pt.indices, pt.diag_pos, lu, s, s_hat)
+        t = _matvec(pt, data, s_hat)
+        tt = t @ t
+        omega = (t @ s) / tt if tt > 0.0 else 0.0
+        x += omega * s_hat
+        r = s - omega * t
+        rho_old = rho
+        if np.linalg.norm(r) <= target:
+            return x, k
+    return None, max_iterations
+
+
+class PressureSolver:
+    """Preconditioned conjugate gradients (Hestenes & Stiefel 1952) for the SPD pressure-correction system.
+
+    Preconditioner: the sparse LU of an earlier outer iteration's pressure matrix, kept while its coefficients
+    drift slowly. Factorised in symmetric mode (diagonal pivots, symmetric ordering), it is an SPD operator,
+    as CG requires. When CG does not reach ``tolerance`` ||b|| within ``refresh_iterations`` iterations, the
+    current matrix is factorised and solved directly, and that factorisation preconditions the next calls.
+    """
+
+    def __init__(self, pattern: CellMatrixPattern, tolerance: float = 1e-3, refresh_iterations: int = 10):
+        self.pattern, self.tolerance, self.refresh_iterations = pattern, tolerance, refresh_iterations
+        self.lu = None
+        self.stats = SolveStats()
+
+    def solve(self, matrix: sp.csr_matrix, rhs: np.ndarray, guess: np.ndarray | None = None) -> np.ndarray:
+        """Solve from zero (``guess`` is ignored: a pressure correction starts from nothing)."""
+        _check_layout(self.pattern, matrix)
+        self.stats.calls += 1
+        if self.lu is not None:
+            x, iterations = _pcg(self.pattern, matrix.data, self.lu.solve, rhs, self.tolerance,
+                                 self.refresh_iterations)
+            self.stats.iterations += iterations
+            if x is not None:
+                return x
+        self.stats.factorisations += 1
+        self.lu = spla.splu(matrix.tocsc(), permc_spec="MMD_AT_PLUS_A", diag_pivot_thresh=0.0,
+                            options={"SymmetricMode": True})
+        return self.lu.solve(rhs)
+
+
+def _pcg(pt, data, precondition, b, tolerance, max_iterations):
+    """Preconditioned CG for A x = b from x = 0; returns (x, iterations), x None if not converged."""
+    x = np.zeros(pt.n)
+    target = tolerance * np.linalg.norm(b)
+    if target == 0.0:
+        return x, 0
+    r = b.copy()
+    z = precondition(r)
+    p = z.copy()
+    rz = r @ z
+    for k in range(1, max_iterations + 1):
+        q = _matvec(pt, data, p)
+        pq = p @ q
+        if not pq > 0.0:
+            return None, k
+        alpha = rz / pq
+        x += alpha * p
+        r -= alpha * q
+        if np.linalg.norm(r) <= target:
+            return x, k
+        z = precondition(r)
+        rz_new = r @ z
+        p = z + (rz_new / rz) * p
+        rz = rz_new
+    return None, max_iterations
+
+
+LINEAR_SOLVERS = {
+    "direct": (DirectSolver, DirectSolver),
+    "iterative": (MomentumSolver, PressureSolver),
+}
+
+
+def linear_solvers(kind: str, pattern: CellMatrixPattern):
+    """(momentum solver, pressure solver) of a ``LINEAR_SOLVERS`` kind, each with ``solve(A, b, guess)``."""
+    if kind not in LINEAR_SOLVERS:
+        raise ValueError(f"linear_solver must be one of {sorted(LINEAR_SOLVERS)}, got {kind!r}")
+    momentum, pressure = LINEAR_SOLVERS[kind]
+    return momentum(pattern), pressure(pattern)

@@ -47,7 +47,6 @@ def developing_laminar(reynolds: float = 500.0, axial_cells: int = 150, radial_c
     return sol, {"entrance_length_D": float(length / diameter), "durst_2005_D": float(durst / diameter)}
 
 
-CASES = {"hagen-poiseuille": hagen_poiseuille, "developing-laminar": developing_laminar}
 
 
 def pipe_wall_data(mesh):
@@ -94,3 +93,18 @@ def turbulent_pipe(reynolds: float = 1e5, length_D: float = 10.0, axial_cells: i
                                                 "axis": Axis()}, closure=closure)
     sol = solve(problem, SolverSettings(max_iterations=4000))
     return sol, developed
+
+
+def developed_turbulent_pipe():
+    """Turbulent pipe at Re_D = 1e5 from the developed inlet profile: deviation from the 1D solution at the
+    outlet and the Darcy friction factor from the wall shear."""
+    sol, developed = turbulent_pipe(reynolds=1e5, length_D=10.0, axial_cells=40, radial_cells=50)
+    mesh = sol.problem.mesh
+    last = np.abs(mesh.cell_centre[:, 0] - mesh.cell_centre[:, 0].max()) < 1e-12
+    u1d = developed.profile_at(mesh.cell_centre[last, 1])
+    deviation = np.abs(sol.state.u[last] - u1d).max() / u1d.max()
+    return sol, {"max_deviation_from_1D": float(deviation), "friction_factor_1D": developed.friction_factor}
+
+
+CASES = {"hagen-poiseuille": hagen_poiseuille, "developing-laminar": developing_laminar,
+         "turbulent-pipe-Re1e5": developed_turbulent_pipe}

@@ -1,0 +1,149 @@
+"""From a case to solved operating points: fixture mesh -> flow problem -> solve -> rotor-plane reading.
+
+Plain orchestration: the physics lives in ``solver``, the geometry in ``geometry``. A sweep over flows
+starts each flow from the previous flow's solution scaled by the flow ratio (velocities by the ratio,
+pressures by its square), which is the dimensionally right guess at high Reynolds number.
+"""
+from __future__ import annotations
+
+import time
+from dataclasses import dataclass
+from typing import Callable
+
+import numpy as np
+
+from geometry.case import Case
+from geometry.fixture import build_fixture_mesh
+from geometry.wall_distance import wall_distance
+from solver.air import Air
+from solver.boundary import AmbientOpening, Axis, FixedFlowOutlet, Wall
+from solver.closure import LaminarClosure, MixingLengthClosure
+from solver.flow import FlowProblem, FlowSolution, FlowState, SolverSettings, solve
+from solver.mixing_length import MixingLengthConstants
+
+from .rotor_plane import plane_flux, rotor_plane_profile
+from .table import PointResult
+
+
+def case_air(case: Case) -> Air:
+    return Air(case.air.temperature_K, case.air.pressure_Pa, case.air.relative_humidity)
+
+
+def case_constants(case: Case, overrides: dict | None = None) -> MixingLengthConstants:
+    from geometry.schema import CaseError
+    try:
+        return MixingLengthConstants.from_overrides({**case.model.overrides, **(overrides or {})})
+    except ValueError as error:
+        raise CaseError("model", str(error)) from None
+
+
+@dataclass(eq=False)
+class PreparedFixture:
+    """A case's mesh at one level with everything the flow problems of that level share."""
+
+    case: Case
+    fixture: object
+    air: Air
+    closure: object
+    level: str
+
+    @classmethod
+    def build(cls, case: Case, level: str | None = None, constants: MixingLengthConstants | None = None,
+              first_cell_height: float | None = None) -> "PreparedFixture":
+        fixture = build_fixture_mesh(case, level=level, first_cell_height=first_cell_height)
+        air = case_air(case)
+        if case.model.closure == "laminar":
+            closure = LaminarClosure()
+        else:
+            mesh = fixture.mesh
+            wall_faces = np.concatenate([mesh.patch_faces(n) for n in mesh.patches if n.startswith("wall")])
+            distance, nearest = wall_distance(mesh)
+            # nearest is a global face index; the closure wants an index into wall_faces
+            position = np.full(mesh.n_faces, -1)
+            position[wall_faces] = np.arange(len(wall_faces))
+            closure = MixingLengthClosure(wall_faces, distance, position[nearest], np.asarray(fixture.duct_radius),
+                                          float(fixture.open_region_delta), constants or case_constants(case))
+        return cls(case, fixture, air, closure, level or case.mesh.level)
+
+    def problem(self, flow: float) -> FlowProblem:
+        mesh = self.fixture.mesh
+        boundaries = {}
+        for name in mesh.patches:
+            if name.startswith("wall"):
+                boundaries[name] = Wall()
+            elif name == "axis":
+                boundaries[name] = Axis()
+            elif name == "ambient":
+                boundaries[name] = AmbientOpening(0.0)
+            elif name == "outlet":
+                boundaries[name] = FixedFlowOutlet(flow=flow)
+            else:
+                raise ValueError(f"fixture mesh has an unexpected patch {name!r}")
+        return FlowProblem(mesh, self.air.density, self.air.viscosity, boundaries, closure=self.closure,
+                           resistance=self.rotor_resistance(flow))
+
+    def rotor_resistance(self, flow: float) -> np.ndarray | None:
+        """Thin porous layer at the rotor plane: force -c U per volume with c = K rho U_h / (2 t), so the
+        layer of thickness t drops K 1/2 rho U_h^2 at the head's mean velocity U_h (linearised at U_h)."""
+        head = self.case.head
+        if head.rotor_loss <= 0.0:
+            return None
+        r_in, r_out = self.fixture.rotor_annulus
+        u_head = flow / (np.pi * (r_out**2 - r_in**2))
+        mesh = self.fixture.mesh
+        cells = np.asarray(self.fixture.rotor_cells)
+        quads = mesh.nodes[mesh.cell_nodes[cells]]
+        thickness = np.ptp(quads[:, :, 0], axis=1)  # axial extent of each cell of the layer
+        resistance = np.zeros(mesh.n_cells)
+        resistance[cells] = head.rotor_loss * self.air.density * u_head / (2.0 * thickness)
+        return resistance
+
+
+def scaled_state(state: FlowState, ratio: float, viscosity: float) -> FlowState:
+    """A previous solution scaled to a new flow: velocities by the ratio, pressure by its square."""
+    mu_t = np.maximum(state.mu_eff - viscosity, 0.0)
+    return FlowState(state.u * ratio, state.v * ratio, state.p * ratio**2, state.mass_flux * ratio,
+                     viscosity + mu_t * ratio)
+
+
+def solve_point(prepared: PreparedFixture, flow: float, initial: FlowState | None = None,
+                settings: SolverSettings = SolverSettings(),
+                progress: Callable[[int, dict], None] | None = None) -> tuple[PointResult, FlowSolution]:
+    """Solve one operating point and read the rotor-plane profile."""
+    fixture = prepared.fixture
+    problem = prepared.problem(flow)
+    solution = solve(problem, settings, initial=initial, progress=progress)
+    r_in, r_out = fixture.rotor_annulus
+    profile = rotor_plane_profile(solution, fixture.rotor_x, r_in, r_out, hub=r_in > 0)
+    outlet = problem.mesh.patch_faces("outlet")
+    area = problem.mesh.face_area[outlet]
+    outlet_pressure = float((solution.state.p[problem.mesh.owner[outlet]] * area).sum() / area.sum())
+    point = PointResult(flow=flow, level=prepared.level, cells=problem.mesh.n_cells, iterations=solution.iterations,
+                        converged=solution.converged, wall_s=solution.wall_seconds,
+                        pressure_drop_Pa=-outlet_pressure, profile=profile)
+    return point, solution
+
+
+def sweep_level(prepared: PreparedFixture, flows, settings: SolverSettings = SolverSettings(),
+                progress: Callable[[float, int, dict], None] | None = None):
+    """Solve every flow of a sweep at one level, each from the previous solution scaled; yields (point, solution)."""
+    previous: FlowSolution | None = None
+    for flow in flows:
+        initial = None
+        if previous is not None:
+            ratio = flow / previous.problem.boundaries["outlet"].flow
+            initial = scaled_state(previous.state, ratio, prepared.air.viscosity)
+        step = (lambda i, r, q=flow: progress(q, i, r)) if progress else None
+        point, previous = solve_point(prepared, flow, initial, settings, step)
+        yield point, previous
+
+
+def rotor_plane_flux(solution: FlowSolution, fixture) -> float:
+    r_in, r_out = fixture.rotor_annulus
+    return plane_flux(solution, fixture.rotor_x, r_in, r_out)
+
+
+def timed(fn, *args, **kwargs):
+    start = time.perf_counter()
+    out = fn(*args, **kwargs)
+    return out, time.perf_counter() - start
