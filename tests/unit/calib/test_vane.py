@@ -147,5 +147,16 @@ def test_friction_start_threshold_matches_flat_plate_normal_force():
 
 def test_profile_must_cover_rotor():
     vane = VaneAnemometer(**GEOMETRY)
-    with pytest.raises(ValueError, match="does not fit"):
+    with pytest.raises(ValueError, match="outside the rotor-plane profile"):
         vane.solve(_uniform(3.0, R=0.040))
+
+
+def test_blade_roots_inside_a_hub_see_still_air():
+    """A rotor hub 1 mm smaller than the fixture's hub: the root stations lie on the hub body (u = 0)."""
+    vane = VaneAnemometer(**GEOMETRY)
+    r_hub = GEOMETRY["hub_diameter"] / 2 + 1e-3
+    r = np.linspace(r_hub, 0.05, 400)
+    annulus = RotorPlaneProfile(r, np.full_like(r, 3.0), np.zeros_like(r), r_inner=r_hub)
+    roots = vane._station_velocities(annulus)[0][vane.stations[0] < r_hub]
+    assert len(roots) > 0 and np.all(roots == 0.0)
+    assert 0.0 < vane.indicated_velocity(annulus) < 3.0
