@@ -5,9 +5,13 @@ A closure turns the current velocity gradients into the effective viscosity mu_e
 ``mixing-length``: nu_t = l^2 |S| with
     |S|^2 = 2 [(du/dx)^2 + (dv/dr)^2 + (v/r)^2] + (du/dr + dv/dx)^2   (hoop strain v/r included),
 l from :func:`solver.mixing_length.mixing_length_kernel` (Nikuradse in ducts, Escudier cap in open
-regions, van Driest damping), y the exact distance to the nearest wall face and y+ from that face's
-wall shear (tau_w = mu |u_t| / dn of its wall cell). nu_t is under-relaxed between outer iterations.
+regions, van Driest damping), y the exact distance to the nearest wall face and y+ = y u*/nu with
+u* = max(u_tau of that face, sqrt(nu |S|)) (tau_w = mu |u_t| / dn of its wall cell). nu_t is
+under-relaxed between outer iterations.
 Assumptions: equilibrium (no transport of turbulence), smooth walls resolved to y+ ~ 1, no wall functions.
+The floor sqrt(nu |S|) on the damping scale is our model choice for separated flow, where the wall shear
+that van Driest's damping was calibrated on vanishes (it is inactive in attached pipe flow, where the
+viscous stress nu |S| never exceeds u_tau^2); its effect is part of the model-form uncertainty.
 """
 from __future__ import annotations
 
@@ -38,10 +42,15 @@ def mixing_length_viscosity(grad_u, grad_v, v, radius, wall_distance, nearest_wa
         hoop = v[c] / radius[c]
         s2 = (2.0 * (grad_u[c, 0] ** 2 + grad_v[c, 1] ** 2 + hoop * hoop)
               + (grad_u[c, 1] + grad_v[c, 0]) ** 2)
+        strain = np.sqrt(s2)
         y = wall_distance[c]
-        y_plus = y * u_tau[nearest_wall[c]] / nu
-        length = mixing_length_kernel(y, y_plus, duct_radius[c], open_delta, kappa, a_plus, c0, c2, c4, lam)
-        out[c] = length * length * np.sqrt(s2)
+        # Damping velocity scale: the nearest wall's u_tau, but never below the local viscous shear scale
+        # sqrt(nu |S|). Near an attached wall nu |S| <= u_tau^2, so this changes nothing there; over a
+        # separated region (wall shear -> 0) it keeps the free shear layer from being damped to laminar.
+        u_star = max(u_tau[nearest_wall[c]], np.sqrt(nu * strain))
+        length = mixing_length_kernel(y, y * u_star / nu, duct_radius[c], open_delta, kappa, a_plus,
+                                      c0, c2, c4, lam)
+        out[c] = length * length * strain
 
 
 @dataclass(eq=False)

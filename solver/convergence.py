@@ -6,6 +6,9 @@ import math
 import numpy as np
 
 
+SPEED_GROWTH = 100.0  # a velocity 100 times the early maximum is a blow-up, not a flow
+
+
 class DivergenceError(RuntimeError):
     """The solve blew up. Carries the iteration, the last residuals and the residual history."""
 
@@ -31,6 +34,7 @@ class ConvergenceMonitor:
         self.residuals: dict[str, list[float]] = {}
         self.monitors: dict[str, list[float]] = {}
         self.best: dict[str, float] = {}
+        self.speed_scale = 0.0
 
     def record(self, iteration: int, residuals: dict[str, float], monitors: dict[str, float]):
         for name, value in residuals.items():
@@ -40,6 +44,14 @@ class ConvergenceMonitor:
         for name, value in {**residuals, **monitors}.items():
             if not math.isfinite(value):
                 raise DivergenceError(iteration, residuals, self.history(), f"{name} is not finite")
+        speed = monitors.get("max_speed")
+        if speed is not None:
+            if iteration == 10:
+                self.speed_scale = speed
+            elif iteration > 10 and speed > SPEED_GROWTH * max(self.speed_scale, 1e-300):
+                raise DivergenceError(iteration, residuals, self.history(),
+                                      f"the largest velocity grew to {speed:.3g} m/s, "
+                                      f"{speed / self.speed_scale:.0f} times its early value")
         if iteration <= 10:
             return  # the first iterations start from a trivial field: no meaningful minimum yet
         for name, value in residuals.items():
@@ -48,6 +60,13 @@ class ConvergenceMonitor:
                 raise DivergenceError(iteration, residuals, self.history(),
                                       f"{name} residual grew {value / best:.1e} times its minimum")
             self.best[name] = min(best, value)
+
+    def stalled(self, name: str, window: int) -> bool:
+        """True when residual ``name`` has not fallen 10 % below its earlier minimum in the last ``window``."""
+        values = self.residuals.get(name, [])
+        if len(values) < 2 * window:
+            return False
+        return min(values[-window:]) > 0.9 * min(values[:-window])
 
     def monitors_settled(self) -> bool:
         for values in self.monitors.values():

@@ -36,11 +36,15 @@ class SolverSettings:
     residual_tolerance: float = 1e-6
     monitor_tolerance: float = 1e-6
     monitor_window: int = 20
-    velocity_relaxation: float = 0.8
+    velocity_relaxation: float = 0.9
     pressure_relaxation: float = 1.0
     second_order: bool = True
     divergence_factor: float = 1e6
     linear_solver: str = "iterative"  # key of solver.linear.LINEAR_SOLVERS; "direct" = sparse LU
+    # The convection limiter is frozen at this iteration, or earlier when the continuity residual has not
+    # improved by 10 % over ``limiter_stall_window`` iterations: limiters make steady iterations cycle.
+    limiter_freeze_iteration: int = 300
+    limiter_stall_window: int = 50
 
 
 @dataclass(frozen=True, eq=False)
@@ -183,6 +187,8 @@ class _Iteration:
         self.vel_b = np.ones((self.nb, 2))
         self.grad_p = np.zeros((m.n_cells, 2))
         self.momentum_solver, self.pressure_solver = linear_solvers(settings.linear_solver, problem.pattern)
+        self.psi = (np.zeros(self.n_int), np.zeros(self.n_int))
+        self.limiter_frozen = False
         self.update_boundaries(first=True)
 
     def context(self, sl) -> FaceContext:
@@ -250,7 +256,7 @@ class _Iteration:
             if s.second_order:
                 K.explicit_face_terms(m.owner, m.neighbour, self.n_int, g.w, g.d, g.dn, m.face_normal,
                                       m.face_area, st.mass_flux, mu_f, phi, grads[comp], grads[0], grads[1],
-                                      comp, rhs)
+                                      comp, self.psi[comp], not self.limiter_frozen, rhs)
             A = self.pb.pattern.matrix(dg, off)
             residual = rhs - A @ phi
             scale = np.abs(dg).sum() * max(np.abs(st.velocity).max(), 1e-12)
@@ -336,7 +342,11 @@ def solve(problem: FlowProblem, settings: SolverSettings = SolverSettings(), ini
         res_p = it.continuity(d_rc, d_simplec)
         residuals = {"u": res_u, "v": res_v, "continuity": res_p}
         values = {name: fn(problem, state) for name, fn in problem.monitors.items()}
+        values["max_speed"] = float(np.sqrt(state.u**2 + state.v**2).max())
         monitor.record(iteration, residuals, values)
+        if not it.limiter_frozen and (iteration >= settings.limiter_freeze_iteration
+                                      or monitor.stalled("continuity", settings.limiter_stall_window)):
+            it.limiter_frozen = True
         if progress is not None:
             progress(iteration, residuals)
         if monitor.converged():
