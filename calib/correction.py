@@ -33,11 +33,15 @@ from .table import CorrectionTable, PointResult, build_table, reading
 LEVEL_ORDER = ("coarse", "normal", "fine")
 
 
-def levels_for(count: int) -> tuple[str, ...]:
-    """The mesh levels of a table with ``count`` levels: 1 -> normal, 2 -> coarse+normal, 3 -> all."""
+def levels_for(count: int, case_level: str = "normal") -> tuple[str, ...]:
+    """Mesh levels of a table: 1 -> the case's own level; 2 -> it and its neighbour; 3 -> all three."""
     if count not in (1, 2, 3):
         raise ValueError(f"--levels must be 1, 2 or 3, got {count}")
-    return {1: ("normal",), 2: ("coarse", "normal"), 3: LEVEL_ORDER}[count]
+    if count == 1:
+        return (case_level,)
+    if count == 2:
+        return ("coarse", "normal") if case_level != "fine" else ("normal", "fine")
+    return LEVEL_ORDER
 
 
 def departure_error() -> float:

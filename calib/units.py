@@ -57,6 +57,13 @@ PRESSURE_UNITS = {
     "inwc": INCH_M * CONVENTIONAL_WATER_DENSITY * STANDARD_GRAVITY,
     "mmh2o": 1.0e-3 * CONVENTIONAL_WATER_DENSITY * STANDARD_GRAVITY,
 }
+LENGTH_UNITS = {
+    "m": 1.0,
+    "cm": 1.0e-2,
+    "mm": 1.0e-3,
+    "in": INCH_M,
+    "ft": FOOT_M,
+}
 TIME_UNITS = {
     "s": 1.0,
     "ms": 1.0e-3,
@@ -77,6 +84,7 @@ _KINDS = {
     "volume": (VOLUME_UNITS, "30L, 0.03m3, 1ft3"),
     "pressure": (PRESSURE_UNITS, "250Pa, 2.5kPa, 1inH2O"),
     "time": (TIME_UNITS, "2.1s, 500ms, 1.5min"),
+    "length": (LENGTH_UNITS, "100mm, 10cm, 4in"),
 }
 
 
@@ -127,6 +135,11 @@ def parse_pressure(text: str) -> float:
     Negative values are allowed: a suction device gives a negative gauge pressure.
     """
     return _parse(text, "pressure")
+
+
+def parse_length(text: str) -> float:
+    """Length from text such as '100mm', '4 in', '0.1 m' -> m (> 0)."""
+    return _parse_positive(text, "length")
 
 
 def parse_time(text: str) -> float:
