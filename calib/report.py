@@ -141,7 +141,9 @@ def _figures_html(figures: dict[str, bytes]) -> str:
             raise ValueError(f"figures[{name!r}]: expected PNG bytes (from calib.figures)")
         uri = "data:image/png;base64," + base64.b64encode(bytes(data)).decode("ascii")
         caption = FIGURE_CAPTIONS.get(name, name)
-        parts.append(f"<figure><img src=\"{uri}\" alt=\"{_e(name)}\">"
+        # The load/error handlers mark each image in the DOM, so a browser test can see it decoded.
+        parts.append(f"<figure><img src=\"{uri}\" alt=\"{_e(name)}\" "
+                     "onload=\"this.dataset.state='loaded'\" onerror=\"this.dataset.state='broken'\">"
                      f"<figcaption>{_e(caption)}</figcaption></figure>")
     return "\n".join(parts) if parts else "<p>No figures.</p>"
 

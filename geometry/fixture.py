@@ -4,14 +4,27 @@ Topology (H-type, one block per duct column): the chain is cut at *stations* (se
 rotor plane, the hub's nose and tail); each column between two stations is one block from the axis
 (or the hub) to the wall. Neighbouring blocks share the node array of their station, so a station
 with a sudden area change carries the smaller bore's nodes plus the nodes of the step face.
-The hub's nose and tail are wrapped by a block whose south side runs along the axis and then
-over the hub surface (a C-wrap), which avoids a degenerate corner at the nose tip.
-The still air is a core block ahead of the bore and annular blocks out to ``R_amb``.
+
+Around a hub, block corners sit at the fluid region's own corners, so no block side turns inside
+itself (which would force cells with a ~180-degree angle):
+
+* blunt nose and blunt tail: the face is part of a station (wall from the axis to the hub edge, then
+  the annulus), so the column ahead of the nose and the wake column behind the tail meet the axis at
+  the face's foot and the hub edge is a convex corner shared by three blocks;
+* round nose: three blocks. ``front`` has the axis up to the tip as its south side and the nose from
+  the tip to the ray (from the nose centre) through the meeting point Q as its east side; ``wrap``
+  covers the rest of the nose to the shoulder (its west side is that ray, so grid lines leave the nose
+  along its normals); ``outer`` lies between the wrap and the duct wall. Q, on the station ahead of
+  the nose, is an interior vertex of five cells.
+
+Stations off the hub inside the head are hub-shaped (geometry.grading.HubStations) so that lines run
+straight past the hub. The still air is a core block ahead of the bore and annular blocks out to ``R_amb``.
 
 Patches: ``ambient`` (upstream face x = -L_amb and far radial face r = R_amb), ``axis``, ``outlet``,
 walls ``wall`` (duct), ``wall-hub``, ``wall-flange`` (the plate of a flanged or bell mouth),
 ``wall-bell`` (the flare), ``wall-lip``/``wall-outer``/``wall-back`` (thin-wall mouth).
-Boundary faces are named from their position once all blocks are joined.
+Boundary faces are named from their position once all blocks are joined, so a block side may be part
+interface, part wall.
 
 Model choices (documented here, used by the solver):
 
@@ -28,24 +41,16 @@ import math
 from dataclasses import dataclass
 
 import numpy as np
-from scipy.optimize import brentq
 
-from .blocks import Block
+from .grading import (LEVEL_SCALE, Y_PLUS_TARGET, HubStations, Sizing, axial, cells_needed,  # noqa: F401
+                      explicit_block, graded, line, station)
 from .mesh import Mesh, mesh_from_cells
 from .segments import Head, segment_positions, chain_outline
 from .wall_spacing import first_cell_height as pipe_first_cell_height
 from .wall_spacing import friction_velocity_estimate
 
-LEVEL_SCALE = {"coarse": 1.0, "normal": 1.5, "fine": 2.4}  # cells per direction relative to coarse (~1.5x a level)
-RADIAL_CELLS = 22            # radial cells across a duct, coarse level
-AXIAL_CELL_DIAMETERS = 0.45  # largest axial duct cell, in local diameters, coarse level
-GROWTH = 0.22                # neighbour size ratio 1 + GROWTH/scale in the duct
-AMBIENT_GROWTH = 0.3         # ... and 1 + AMBIENT_GROWTH/scale in the still air
 AMBIENT_DIAMETERS = 10.0     # default L_amb = R_amb in diameters (doubling it changes little, see tests)
-CORNER_FRACTION = 0.006      # cell size at sharp lips and step corners, in local radii, coarse level
 PROTRUSION_DIAMETERS = 2.0   # thin-wall mouth: length of the protruding pipe outside
-MAX_GROWTH = 2.5            # steepest neighbour size ratio ever used
-Y_PLUS_TARGET = 1.0          # first-cell target for the wall-resolved closure
 
 
 def kinematic_viscosity_estimate(temperature_K: float, pressure_Pa: float) -> float:
@@ -54,7 +59,6 @@ def kinematic_viscosity_estimate(temperature_K: float, pressure_Pa: float) -> fl
     solver/air.py; a 1 % error here moves the first cell by 1 %."""
     mu = 1.716e-5 * (temperature_K / 273.15) ** 1.5 * (273.15 + 110.4) / (temperature_K + 110.4)
     return mu / (pressure_Pa / (287.05 * temperature_K))
-
 
 @dataclass(frozen=True, eq=False)
 class FixtureMesh:
@@ -96,168 +100,53 @@ class FixtureMesh:
         return out
 
 
-# ---------------------------------------------------------------- 1D node distributions
 
-def _sizes(n: int, delta: float, lo: float | None, hi: float | None, q: float) -> np.ndarray:
-    k = np.arange(n, dtype=float)
-    s = np.full(n, delta)
-    if lo is not None:
-        s = np.minimum(s, lo * q ** k)
-    if hi is not None:
-        s = np.minimum(s, hi * q ** (n - 1 - k))
-    return s
-
-
-def graded(length: float, n: int, lo: float | None, hi: float | None, q: float) -> np.ndarray:
-    """Node fractions (n+1 values, 0..1): sizes min(Δ, lo q^k, hi q^(n-1-k)), Δ solved so they fill ``length``.
-
-    Cells grow by ``q`` away from each clustered end (``lo``/``hi`` = end cell, None = no clustering) up to
-    a uniform Δ; if even pure growth cannot fill the length, ``q`` itself is raised (up to ``MAX_GROWTH``),
-    and beyond that the end cells are enlarged.
-    """
-    if lo is None and hi is None:
-        return np.linspace(0.0, 1.0, n + 1)
-    if _sizes(n, np.inf, lo, hi, MAX_GROWTH).sum() < length:
-        # too few cells even at the steepest growth allowed: enlarge the end cells instead
-        grow = brentq(lambda f: _sizes(n, np.inf, lo and f * lo, hi and f * hi, MAX_GROWTH).sum() - length,
-                      1.0, length / min(v for v in (lo, hi) if v is not None))
-        sizes = _sizes(n, np.inf, lo and grow * lo, hi and grow * hi, MAX_GROWTH)
-    elif _sizes(n, np.inf, lo, hi, q).sum() < length:
-        q = brentq(lambda qq: _sizes(n, np.inf, lo, hi, qq).sum() - length, q, MAX_GROWTH)
-        sizes = _sizes(n, np.inf, lo, hi, q)
-    else:
-        delta = brentq(lambda d: _sizes(n, d, lo, hi, q).sum() - length, 1e-12 * length, length)
-        sizes = _sizes(n, delta, lo, hi, q)
-    x = np.concatenate([[0.0], np.cumsum(sizes)])
-    return x / x[-1]
-
-
-def cells_needed(length: float, lo: float | None, hi: float | None, q: float, delta: float,
-                 minimum: int = 2) -> int:
-    """Fewest cells whose sizes min(delta, lo q^k, hi q^(n-1-k)) reach ``length``."""
-    n = minimum
-    while _sizes(n, delta, lo, hi, q).sum() < length:
-        n += 1
-    return n
-
-
-def _line(a, b, fractions) -> np.ndarray:
-    a, b = np.asarray(a, float), np.asarray(b, float)
-    return a[None, :] + np.asarray(fractions)[:, None] * (b - a)[None, :]
-
-
-# ---------------------------------------------------------------- blocks from explicit side nodes
-
-class _Nodes:
-    """Explicit node parameters in [0, 1], standing in for a :class:`~geometry.blocks.Spacing`."""
-
-    def __init__(self, params: np.ndarray):
-        self.params = params
-        self.cells = len(params) - 1
-
-    def points(self) -> np.ndarray:
-        return self.params
-
-
-def _fractions(points: np.ndarray) -> np.ndarray:
-    seg = np.hypot(*np.diff(points, axis=0).T)
-    s = np.concatenate([[0.0], np.cumsum(seg)])
-    return s / s[-1]
-
-
-def _polyline(params: np.ndarray, points: np.ndarray):
-    return lambda t: np.column_stack([np.interp(t, params, points[:, 0]), np.interp(t, params, points[:, 1])])
-
-
-def _block(south, north, west, east) -> Block:
-    """A transfinite block through explicit side nodes (sides as in geometry.blocks, sw->se, nw->ne...)."""
-    for a, b in ((south[0], west[0]), (south[-1], east[0]), (north[0], west[-1]), (north[-1], east[-1])):
-        if np.hypot(*(a - b)) > 1e-9 * (1.0 + np.hypot(*a)):
-            raise AssertionError(f"block corners do not meet: {a} vs {b}")
-    if len(south) != len(north) or len(west) != len(east):
-        raise AssertionError("opposite block sides need the same node count")
-    s = 0.5 * (_fractions(south) + _fractions(north))
-    t = 0.5 * (_fractions(west) + _fractions(east))
-    curves = {"south": _polyline(s, south), "north": _polyline(s, north),
-              "west": _polyline(t, west), "east": _polyline(t, east)}
-    return Block((south[0], south[-1], north[-1], north[0]), _Nodes(s), _Nodes(t), {}, curves)
-
-
-# ---------------------------------------------------------------- sizes
-
-@dataclass(frozen=True)
-class _Sizing:
-    """Target cell sizes of one mesh level (all lengths in m)."""
-
-    scale: float
-    h1_head: float
-    head_radius: float
-    max_flow: float
-    nu: float
-
-    @property
-    def q(self) -> float:
-        return 1.0 + GROWTH / self.scale
-
-    @property
-    def q_ambient(self) -> float:
-        return 1.0 + AMBIENT_GROWTH / self.scale
-
-    @property
-    def radial_cells(self) -> int:
-        return int(round(RADIAL_CELLS * self.scale))
-
-    def h1(self, radius: float) -> float:
-        """First wall cell at a bore of this radius: the head's value scaled by the pipe estimate ratio."""
-        def pipe(r):
-            return pipe_first_cell_height(Y_PLUS_TARGET, self.max_flow / (math.pi * r * r), 2.0 * r, self.nu)
-        return self.h1_head * pipe(radius) / pipe(self.head_radius)
-
-    def corner(self, radius: float) -> float:
-        return max(self.h1(radius), CORNER_FRACTION * radius / self.scale)
-
-    def joint(self, radius: float) -> float:
-        return 0.1 * radius / self.scale
-
-    def axial_cap(self, radius: float) -> float:
-        return AXIAL_CELL_DIAMETERS * 2.0 * radius / self.scale
-
+# ---------------------------------------------------------------- columns
 
 @dataclass
 class _Column:
     x0: float
     x1: float
     wall: object        # x -> wall radius R(x)
-    kind: str           # plain | nose | hub | tail
+    kind: str           # plain | front (ahead of a blunt nose) | nose (round nose) | hub | wake
     d0: float | None    # axial cell wanted at x0 (None: no clustering)
     d1: float | None
-    n: int = 0          # radial cells
+    shape: str | None = None   # None, or the HubStations profile of its stations: face | round
+    n: int = 0          # radial cells (annulus cells on the hub)
 
 
-def _head_columns(head: Head, x0: float, wall, d0, d1, z: _Sizing) -> list[_Column]:
+def _head_columns(head: Head, x0: float, wall, d0, d1, z: Sizing):
+    """The head's columns and, with a hub, the hub's station profiles (None without a hub)."""
     R, x1, xr = 0.5 * head.diameter, x0 + head.length, x0 + head.rotor_at
     d_rotor = 0.04 * R / z.scale
     if not head.has_hub:
-        return [_Column(x0, xr, wall, "plain", d0, d_rotor), _Column(xr, x1, wall, "plain", d_rotor, d1)]
+        return [_Column(x0, xr, wall, "plain", d0, d_rotor), _Column(xr, x1, wall, "plain", d_rotor, d1)], None
     rh, xs = head.hub_radius, x0 + head.hub_start
     xe = xs + head.hub_length
-    xa = xs - min(0.5 * rh, 0.5 * (xs - x0))
-    xn = xs + (rh if head.hub_nose == "round" else min(0.25 * rh, 0.5 * (xr - xs)))
-    xt = xe - min(0.25 * rh, 0.5 * (xe - xr))
-    xb = xe + min(rh, 0.6 * (x1 - xe))
-    dh = z.joint(rh)
-    return [_Column(x0, xa, wall, "plain", d0, dh), _Column(xa, xn, wall, "nose", dh, dh),
-            _Column(xn, xr, wall, "hub", dh, d_rotor), _Column(xr, xt, wall, "hub", d_rotor, dh),
-            _Column(xt, xb, wall, "tail", dh, dh), _Column(xb, x1, wall, "plain", dh, d1)]
+    h1, dc, dh = z.h1(R), z.corner(rh), z.joint(rh)
+    # the faces are walls: first cell h1 normal to them, as on the hub's cylinder
+    wake = _Column(xe, x1, wall, "wake", h1, d1, "face")
+    if head.hub_nose == "round":
+        xa = xs - min(0.5 * rh, 0.5 * (xs - x0))
+        # Q at the radius where the ray from the nose centre leaves the station at 45 degrees
+        hub = HubStations.build(rh, rh + (xs - xa), z)
+        front = [_Column(x0, xa, wall, "plain", d0, dh, "round"), _Column(xa, xs + rh, wall, "nose", dh, dh, "round")]
+        d_body = dh
+    else:
+        hub = HubStations.build(rh, rh, z)
+        front, d_body = [_Column(x0, xs, wall, "front", d0, h1, "face")], dc
+    body = [_Column(front[-1].x1, xr, wall, "hub", d_body, d_rotor), _Column(xr, xe, wall, "hub", d_rotor, dc)]
+    return front + body + [wake], hub
 
 
-def _columns(case, z: _Sizing, mouth_delta: float) -> list[_Column]:
-    """The duct's columns, mouth to outlet, with their axial end targets and radial cell counts."""
+def _columns(case, z: Sizing, mouth_delta: float):
+    """The duct's columns, mouth to outlet, with their axial end targets and radial cell counts, and the
+    hub's station profiles (None without a hub)."""
     segs = case.segments
     cols: list[_Column] = []
     starts = segment_positions(segs)
     last = max(i for i, s in enumerate(segs) if s.length > 0)
-    prev_r = None
+    prev_r, hub = None, None
     for i, (x0, seg) in enumerate(zip(starts, segs)):
         if seg.length == 0.0:
             continue
@@ -276,12 +165,14 @@ def _columns(case, z: _Sizing, mouth_delta: float) -> list[_Column]:
             r_next = float(nxt.radius_at(0.0))
             if abs(r_next - float(wall(x1))) > 1e-9 * r0:
                 d1 = z.corner(min(r_next, float(wall(x1))))
-        new = _head_columns(seg, x0, wall, d0, d1, z) if isinstance(seg, Head) else \
-            [_Column(x0, x1, wall, "plain", d0, d1)]
+        if isinstance(seg, Head):
+            new, hub = _head_columns(seg, x0, wall, d0, d1, z)
+        else:
+            new = [_Column(x0, x1, wall, "plain", d0, d1)]
         cols += new
         prev_r = float(wall(x1))
-    _radial_counts(cols, z)
-    return cols
+    _radial_counts(cols, z, hub)
+    return cols, hub
 
 
 def _jump(left: _Column, right: _Column) -> tuple[float, float]:
@@ -289,112 +180,109 @@ def _jump(left: _Column, right: _Column) -> tuple[float, float]:
     return float(left.wall(x)), float(right.wall(x))
 
 
-def _radial_counts(cols: list[_Column], z: _Sizing) -> None:
-    """Radial cells per column: a sudden expansion adds the cells of its face, a contraction drops them."""
+def _radial_counts(cols: list[_Column], z: Sizing, hub: HubStations | None) -> None:
+    """Radial cells per column: a sudden expansion adds the cells of its face, a contraction drops them;
+    a blunt hub face takes its cells from the stations ahead of it and gives them back behind the tail,
+    so the annulus keeps the chain's count."""
     n_min = max(8, int(0.7 * z.radial_cells))
-    cols[0].n = z.radial_cells
+    face = hub.face_cells if hub is not None else 0
+    cols[0].n = z.radial_cells + (face if any(c.kind == "front" for c in cols) else 0)
     for left, right in zip(cols, cols[1:]):
         r_l, r_r = _jump(left, right)
         if abs(r_l - r_r) <= 1e-9 * r_l:
-            right.n = left.n
+            onto_hub = left.shape == "face" and right.kind == "hub"
+            off_hub = left.kind == "hub" and right.shape == "face"
+            right.n = left.n - face * onto_hub + face * off_hub
             continue
         small, big = min(r_l, r_r), max(r_l, r_r)
         k = cells_needed(big - small, z.corner(small), z.h1(big), z.q, 2.5 * big / z.radial_cells, minimum=3)
         right.n = left.n + k if r_r > r_l else left.n - max(3, min(k, left.n - n_min))
 
 
-def _station(x: float, r_bot: float, r_top: float, n: int, z: _Sizing) -> np.ndarray:
-    """Radial nodes of a plain station: core cells toward the axis, wall-graded toward r_top (and r_bot if
-    it is the hub)."""
-    lo = z.h1(r_top) if r_bot > 0.0 else None
-    f = graded(r_top - r_bot, n, lo, z.h1(r_top), z.q)
-    return _line((x, r_bot), (x, r_top), f)
+# ---------------------------------------------------------------- stations and duct blocks
+
+def _col_station(col: _Column, x: float, r: float, side: str, z: Sizing, hub) -> np.ndarray:
+    """Radial nodes of ``col``'s west or east side at x, for a wall radius r."""
+    if col.kind == "hub" or (col.kind == "nose" and side == "east"):
+        return hub.annulus(x, r, col.n, z)
+    if col.shape is not None:
+        return hub.shaped(x, r, col.n, col.shape, z)
+    return station(x, 0.0, r, col.n, z)
 
 
-def _station_views(left: _Column | None, right: _Column | None, z: _Sizing, hub_r: float):
+def _station_views(left: _Column | None, right: _Column | None, z: Sizing, hub):
     """Node arrays of one station as seen from the column on its left and on its right."""
     if left is None or right is None:
         col = right if left is None else left
         x = col.x0 if left is None else col.x1
-        on_hub = col.kind in (("hub", "tail") if left is None else ("nose", "hub"))
-        v = _station(x, hub_r if on_hub else 0.0, float(col.wall(x)), col.n, z)
+        v = _col_station(col, x, float(col.wall(x)), "west" if left is None else "east", z, hub)
         return v, v
     x = right.x0
     r_l, r_r = _jump(left, right)
     if abs(r_l - r_r) <= 1e-9 * r_l:
-        on_hub = left.kind in ("nose", "hub")
-        v = _station(x, hub_r if on_hub else 0.0, r_l, left.n, z)
-        return v, v
+        lv = _col_station(left, x, r_l, "east", z, hub)
+        rv = _col_station(right, x, r_l, "west", z, hub)
+        if len(lv) == len(rv):   # a plain column next to a hub-shaped one takes the shaped nodes
+            lv = rv = rv if right.shape is not None else lv
+        return lv, rv             # else a blunt face: the shaped side holds the annulus's nodes too
     small, big = min(r_l, r_r), max(r_l, r_r)
     n_small, n_big = (left.n, right.n) if r_l < r_r else (right.n, left.n)
-    core = _station(x, 0.0, small, n_small, z)
-    face = _line((x, small), (x, big), graded(big - small, n_big - n_small, z.corner(small), z.h1(big), z.q))
+    core = _col_station(left, x, small, "east", z, hub) if r_l < r_r else \
+        _col_station(right, x, small, "west", z, hub)
+    face = line((x, small), (x, big), graded(big - small, n_big - n_small, z.corner(small), z.h1(big), z.q))
     full = np.vstack([core, face[1:]])
     return (core, full) if r_l < r_r else (full, core)
 
 
-def _axial(x0: float, x1: float, d0, d1, q: float, cap: float) -> np.ndarray:
-    n = cells_needed(x1 - x0, d0, d1, q, cap, minimum=2)
-    return x0 + (x1 - x0) * graded(x1 - x0, n, d0, d1, q)
+def _nose_blocks(col: _Column, west: np.ndarray, east: np.ndarray, hub: HubStations, z: Sizing):
+    """Front, wrap and outer blocks of a round nose (module docstring), centre C = (x1, 0)."""
+    rh, xa, xc = hub.rh, col.x0, col.x1
+    big = float(col.wall(xa))
+    j, h1 = hub.split(big, col.n, z), z.h1(big)
+    q_pt = west[j]
+
+    def nose(theta):
+        return np.column_stack([xc - rh * np.cos(theta), rh * np.sin(theta)])
+
+    theta = np.arctan2(west[:j + 1, 1], xc - xa)    # rays from C through the station's core nodes
+    front_east = nose(theta)
+    p_pt = front_east[-1]
+    ray = line(p_pt, q_pt, graded(float(np.hypot(*(q_pt - p_pt))), j, h1, west[j + 1, 1] - q_pt[1], z.q))
+    tip = line((xa, 0.0), (xc - rh, 0.0), graded(xc - rh - xa, j, None, h1, z.q))
+    front = explicit_block(tip, ray[::-1], west[:j + 1], front_east)
+    arc, lo = rh * (0.5 * np.pi - theta[-1]), rh * (theta[-1] - theta[-2])
+    n = cells_needed(arc, lo, col.d1, z.q, min(z.axial_cap(rh), arc / 3.0), minimum=3)
+    th = theta[-1] + (0.5 * np.pi - theta[-1]) * graded(arc, n, lo, col.d1, z.q)
+    wrap_south = nose(th)
+    wrap_south[-1] = east[0]
+    xq = xc - q_pt[1] * np.cos(th) / np.sin(th)    # the wrap's rays meet the line r = r_Q
+    xq[0], xq[-1] = xa, xc
+    wrap_north = np.column_stack([xq, np.full_like(xq, q_pt[1])])
+    wrap = explicit_block(wrap_south, wrap_north, ray, east[:j + 1])
+    outer = explicit_block(wrap_north, np.column_stack([xq, col.wall(xq)]), west[j:], east[j:])
+    return [("front", front), ("wrap", wrap), ("outer", outer)]
 
 
-def _piece(fn, length: float, lo, hi, z: _Sizing, cap: float) -> np.ndarray:
-    n = cells_needed(length, lo, hi, z.q, min(cap, length / 3.0), minimum=3)
-    return fn(graded(length, n, lo, hi, z.q))
-
-
-def _hub_south(col: _Column, head: Head, x_head: float, z: _Sizing) -> tuple[np.ndarray, np.ndarray]:
-    """South side of the nose or tail wrap (along the axis and over the hub surface) and the x of the
-    matching north-side nodes: each corner of the hub is tied to a north point a little upstream (nose)
-    or downstream (tail), so the grid lines leave the hub surface outward and no cell folds."""
-    rh = head.hub_radius
-    xs, xe = x_head + head.hub_start, x_head + head.hub_start + head.hub_length
-    dt, dc, cap = z.joint(rh) * 0.5, z.corner(rh), z.axial_cap(rh)
-    x0, x1 = col.x0, col.x1
-    if col.kind == "nose" and head.hub_nose == "round":
-        arc = (lambda f: np.column_stack([x1 + rh * np.cos(np.pi * (1 - 0.5 * f)),
-                                          rh * np.sin(np.pi * (1 - 0.5 * f))]))
-        parts = [_piece(lambda f: _line((x0, 0), (xs, 0), f), xs - x0, col.d0, dt, z, cap),
-                 _piece(arc, 0.5 * np.pi * rh, dt, col.d1, z, cap)]
-        knots = [x0, x0 + 0.5 * (xs - x0), x1]
-    elif col.kind == "nose":
-        parts = [_piece(lambda f: _line((x0, 0), (xs, 0), f), xs - x0, col.d0, dt, z, cap),
-                 _piece(lambda f: _line((xs, 0), (xs, rh), f), rh, dt, dc, z, cap),
-                 _piece(lambda f: _line((xs, rh), (x1, rh), f), x1 - xs, dc, col.d1, z, cap)]
-        knots = [x0, x0 + 0.3 * (xs - x0), xs - 0.3 * (xs - x0), x1]
-    else:
-        parts = [_piece(lambda f: _line((x0, rh), (xe, rh), f), xe - x0, col.d0, dc, z, cap),
-                 _piece(lambda f: _line((xe, rh), (xe, 0), f), rh, dc, dt, z, cap),
-                 _piece(lambda f: _line((xe, 0), (x1, 0), f), x1 - xe, dt, col.d1, z, cap)]
-        knots = [x0, xe + 0.15 * (x1 - xe), xe + 0.5 * (x1 - xe), x1]
-    north_x = [knots[0]]
-    for k, part in enumerate(parts):
-        f = _fractions(part)[1:]
-        north_x.extend(knots[k] + (knots[k + 1] - knots[k]) * f)
-    return np.vstack([parts[0]] + [p[1:] for p in parts[1:]]), np.array(north_x)
-
-
-def _duct_blocks(case, cols: list[_Column], z: _Sizing):
-    """One block per column; returns [(name, block, wall or None)], the mouth's nodes, the rotor block index."""
+def _duct_blocks(case, cols: list[_Column], z: Sizing, hub):
+    """The columns' blocks; returns [(name, block, wall or None)], the mouth's nodes, the rotor block index."""
     head, x_head = case.head, segment_positions(case.segments)[case.head_index]
-    hub_r = head.hub_radius
     rotor_x = x_head + head.rotor_at
-    views = [_station_views(None, cols[0], z, hub_r)]
-    views += [_station_views(a, b, z, hub_r) for a, b in zip(cols, cols[1:])]
-    views += [_station_views(cols[-1], None, z, hub_r)]
+    views = [_station_views(None, cols[0], z, hub)]
+    views += [_station_views(a, b, z, hub) for a, b in zip(cols, cols[1:])]
+    views += [_station_views(cols[-1], None, z, hub)]
     out, rotor_block = [], None
     for k, col in enumerate(cols):
         west, east = views[k][1], views[k + 1][0]
-        if col.kind in ("nose", "tail"):
-            south, x = _hub_south(col, head, x_head, z)
-        else:
-            x = _axial(col.x0, col.x1, col.d0, col.d1, z.q, z.axial_cap(min(float(col.wall(col.x0)),
-                                                                           float(col.wall(col.x1)))))
-            south = np.column_stack([x, np.full_like(x, hub_r if col.kind == "hub" else 0.0)])
+        if col.kind == "nose":
+            out += [(f"duct-{k}-nose-{part}", b, col.wall) for part, b in _nose_blocks(col, west, east, hub, z)]
+            continue
+        x = axial(col.x0, col.x1, col.d0, col.d1, z.q,
+                  z.axial_cap(min(float(col.wall(col.x0)), float(col.wall(col.x1)))))
+        south = np.column_stack([x, np.full_like(x, head.hub_radius if col.kind == "hub" else 0.0)])
         north = np.column_stack([x, col.wall(x)])
         if abs(col.x0 - rotor_x) < 1e-12 * (1.0 + abs(rotor_x)):
             rotor_block = len(out)
-        out.append((f"duct-{k}-{col.kind}", _block(south, north, west, east), col.wall))
+        out.append((f"duct-{k}-{col.kind}", explicit_block(south, north, west, east), col.wall))
     return out, views[0][1], rotor_block
 
 
@@ -437,7 +325,7 @@ def _extent(case) -> _Extent:
     return _Extent(r0, length, radius, -rb, protrusion, outer)
 
 
-def _ambient_blocks(case, z: _Sizing, mouth: np.ndarray, e: _Extent) -> list:
+def _ambient_blocks(case, z: Sizing, mouth: np.ndarray, e: _Extent) -> list:
     """Blocks of the still air (and, for a bell, the flare), joined to the bore's first station ``mouth``."""
     amb, q, r0 = case.ambient, z.q_ambient, e.r0
     far = 0.25 * e.length / z.scale
@@ -446,40 +334,40 @@ def _ambient_blocks(case, z: _Sizing, mouth: np.ndarray, e: _Extent) -> list:
     dm = z.joint(e.outer) if bell else z.corner(r0)
     x = e.x_west + e.length * graded(e.length, cells_needed(e.length, None, dm, q, far), None, dm, q)
 
-    def line(r):
+    def row(r):
         return np.column_stack([x, np.full_like(x, r)])
 
     inner = e.outer if bell else r0
-    north = line(inner)
+    north = row(inner)
     tag_core = None
     if bell:
         rb = amb.bell_radius
-        arc = _piece(lambda f: np.column_stack([-rb * np.cos(0.5 * np.pi * f), e.outer - rb * np.sin(0.5 * np.pi * f)]),
-                     0.5 * np.pi * rb, dm, 0.5 * z.joint(r0), z, z.axial_cap(r0))
+        arc = z.piece(lambda f: np.column_stack([-rb * np.cos(0.5 * np.pi * f), e.outer - rb * np.sin(0.5 * np.pi * f)]),
+                      0.5 * np.pi * rb, dm, 0.5 * z.joint(r0), z.axial_cap(r0))
         north = np.vstack([north, arc[1:]])
         tag_core = (lambda xc: np.where(xc > -rb, e.outer - np.sqrt(np.maximum(rb * rb - xc * xc, 0.0)), -1.0))
     south = np.column_stack([north[:, 0], np.zeros(len(north))])
-    west = _line((e.x_west, 0.0), (e.x_west, inner), np.linspace(0.0, 1.0, n0 + 1))
-    blocks = [("ambient-core", _block(south, north, west, mouth), tag_core)]
+    west = line((e.x_west, 0.0), (e.x_west, inner), np.linspace(0.0, 1.0, n0 + 1))
+    blocks = [("ambient-core", explicit_block(south, north, west, mouth), tag_core)]
     if amb.mouth == "thin-wall":
         t, n_l = amb.wall_thickness, max(4, int(round(4 * z.scale)))
         c = z.corner(r0)
-        east = _line((0.0, r0), (0.0, r0 + t), graded(t, n_l, c, c, z.q))
-        west = _line((e.x_west, r0), (e.x_west, r0 + t), np.linspace(0.0, 1.0, n_l + 1))
-        blocks.append(("ambient-lip", _block(line(r0), line(r0 + t), west, east), None))
+        east = line((0.0, r0), (0.0, r0 + t), graded(t, n_l, c, c, z.q))
+        west = line((e.x_west, r0), (e.x_west, r0 + t), np.linspace(0.0, 1.0, n_l + 1))
+        blocks.append(("ambient-lip", explicit_block(row(r0), row(r0 + t), west, east), None))
         inner = r0 + t
     c0 = dm
     n_o = cells_needed(e.radius - inner, c0, None, q, far)
     f_east = graded(e.radius - inner, n_o, c0, None, q)
-    east = _line((e.x_mouth, inner), (e.x_mouth, e.radius), f_east)
-    west = _line((e.x_west, inner), (e.x_west, e.radius), graded(e.radius - inner, n_o, inner / n0, None, q))
-    blocks.append(("ambient-outer", _block(line(inner), line(e.radius), west, east), None))
+    east = line((e.x_mouth, inner), (e.x_mouth, e.radius), f_east)
+    west = line((e.x_west, inner), (e.x_west, e.radius), graded(e.radius - inner, n_o, inner / n0, None, q))
+    blocks.append(("ambient-outer", explicit_block(row(inner), row(e.radius), west, east), None))
     if amb.mouth == "thin-wall":
-        px = _axial(0.0, e.protrusion, c0, z.joint(r0), q, far)
+        px = axial(0.0, e.protrusion, c0, z.joint(r0), q, far)
         south = np.column_stack([px, np.full_like(px, inner)])
         north = np.column_stack([px, np.full_like(px, e.radius)])
-        back = _line((e.protrusion, inner), (e.protrusion, e.radius), f_east)
-        blocks.append(("ambient-outside", _block(south, north, east, back), None))
+        back = line((e.protrusion, inner), (e.protrusion, e.radius), f_east)
+        blocks.append(("ambient-outside", explicit_block(south, north, east, back), None))
     return blocks
 
 
@@ -567,10 +455,10 @@ def build_fixture_mesh(case, level: str | None = None, first_cell_height: float 
                                                      head.diameter, nu)
     if not h1 > 0.0:
         raise ValueError(f"first_cell_height must be > 0 m, got {first_cell_height!r}")
-    z = _Sizing(LEVEL_SCALE[level], h1, r_head, q_max, nu)
+    z = Sizing(LEVEL_SCALE[level], h1, r_head, q_max, nu)
     e = _extent(case)
-    cols = _columns(case, z, 0.5 * z.joint(e.r0) if case.ambient.mouth == "bell" else z.corner(e.r0))
-    duct, mouth_nodes, rotor_block = _duct_blocks(case, cols, z)
+    cols, hub = _columns(case, z, 0.5 * z.joint(e.r0) if case.ambient.mouth == "bell" else z.corner(e.r0))
+    duct, mouth_nodes, rotor_block = _duct_blocks(case, cols, z, hub)
     blocks = _ambient_blocks(case, z, mouth_nodes, e) + duct
     rotor_block += len(blocks) - len(duct)
     outlet_x, outlet_r = cols[-1].x1, float(cols[-1].wall(cols[-1].x1))
