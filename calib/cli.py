@@ -1,7 +1,9 @@
 """The ``airbias`` command line: the only module that knows geometry, solver and calib together.
 
 User mistakes (bad case files, bad units, readings outside a table) end with exit status 2 and one
-message; a solve that diverges ends with status 3 and its residuals; nothing half-written is left behind.
+message; when no table can be made because solves diverged, status 3 names each failure (a single
+diverged flow is left out of the table with a note and its residual history in diverged-*.json);
+nothing half-written is left behind.
 """
 from __future__ import annotations
 
@@ -56,6 +58,23 @@ def _out(args, default: str) -> Path:
     return Path(args.out) if args.out else Path(default)
 
 
+def _tables(args, cases, progress, out=None):
+    """Correction tables of ``cases`` on the executor chosen by --workers/--scheduler; notes to stderr."""
+    from .jobs import run_tables
+    runs = run_tables(cases, args.levels, progress, workers=args.workers, scheduler=args.scheduler, out=out)
+    progress.done()
+    for run in runs:
+        for note in run.notes:
+            print(f"airbias: warning: {note}", file=sys.stderr)
+    return runs
+
+
+def _parallel_options(p) -> None:
+    p.add_argument("--workers", type=int, help="parallel solver processes (default: one per CPU core; 1 = none)")
+    p.add_argument("--scheduler", metavar="tcp://HOST:PORT",
+                   help="run the solves on a Dask distributed scheduler instead (needs airbias[dask])")
+
+
 def _print_table(table):
     print(f"{'flow L/s':>10} {'indicated L/s':>14} {'K':>8} {'U95(K)':>8} {'bias %':>8} {'dp Pa':>9}")
     for row in table.rows:
@@ -64,19 +83,18 @@ def _print_table(table):
 
 
 def cmd_table(args) -> int:
-    from .jobs import run_table, write_table
+    from .jobs import write_table
     case = _case(args.case)
-    progress = Progress()
-    run = run_table(case, args.levels, progress)
-    progress.done()
-    report = write_table(_out(args, f"airbias-{Path(args.case).stem}"), case, run)
+    out = _out(args, f"airbias-{Path(args.case).stem}")
+    run, = _tables(args, [case], Progress(), out)
+    report = write_table(out, case, run)
     _print_table(run.table)
     print(f"report: {report}")
     return 0
 
 
 def cmd_demo(args) -> int:
-    from .jobs import run_table, write_table
+    from .jobs import write_table
     out = Path(args.out or "airbias-demo")
     source = resources.files("calib") / "demo" / "demo.toml"
     text = source.read_text()
@@ -87,9 +105,7 @@ def cmd_demo(args) -> int:
     for caution in CAUTIONS[:2]:
         print(f"  caution: {caution}")
     case = load_case(case_path)
-    progress = Progress()
-    run = run_table(case, args.levels, progress)
-    progress.done()
+    run, = _tables(args, [case], Progress(), out)
     report = write_table(out, case, run)
     _print_table(run.table)
     print(f"report: {report.resolve()}")
@@ -123,12 +139,10 @@ def _flow(text: str, option: str) -> float:
 
 
 def cmd_check(args) -> int:
-    from .jobs import check_reading, run_table
+    from .jobs import check_reading
     case = _case(args.case)
     reading = _flow(args.reading, "--reading")
-    progress = Progress()
-    run = run_table(case, args.levels, progress)
-    progress.done()
+    run, = _tables(args, [case], Progress())
     try:
         result = check_reading(run.table, reading)
     except ValueError as error:
@@ -142,13 +156,9 @@ def cmd_check(args) -> int:
 def cmd_compare(args) -> int:
     from . import figures
     from .atomic import write_bytes
-    from .jobs import run_table
-    runs = {}
     cases = [_case(path) for path in args.cases]
-    progress = Progress()
-    for path, case in zip(args.cases, cases):
-        runs[Path(path).stem] = run_table(case, args.levels, progress)
-    progress.done()
+    out = _out(args, "airbias-compare")
+    runs = dict(zip((Path(path).stem for path in args.cases), _tables(args, cases, Progress(), out)))
     ranking = []
     for name, run in runs.items():
         ks = [r.K for r in run.table.rows]
@@ -164,7 +174,6 @@ def cmd_compare(args) -> int:
           "the easiest to trust):")
     for n, (_, name, spread, worst) in enumerate(ranking, start=1):
         print(f"  {n}. {name}: worst bias {worst:.1f} %, K spread {spread:.1f} %")
-    out = _out(args, "airbias-compare")
     out.mkdir(parents=True, exist_ok=True)
     plot = write_bytes(out / "compare.png", figures.compare_figure({k: r.table for k, r in runs.items()}))
     print(f"overlay plot: {plot}")
@@ -210,12 +219,10 @@ def cmd_reference(args) -> int:
 
 
 def cmd_validate(args) -> int:
-    from .jobs import read_measured_pairs, run_table, validate_pairs
+    from .jobs import read_measured_pairs, validate_pairs
     case = _case(args.case)
     pairs = read_measured_pairs(Path(args.measured))
-    progress = Progress()
-    run = run_table(case, args.levels, progress)
-    progress.done()
+    run, = _tables(args, [case], Progress())
     try:
         rows = validate_pairs(run.table, pairs)
     except ValueError as error:
@@ -253,10 +260,12 @@ def build_parser() -> argparse.ArgumentParser:
     p = command("demo", cmd_demo, "run the bundled demo case end to end into ./airbias-demo/")
     p.add_argument("--out", help="output folder (default ./airbias-demo)")
     p.add_argument("--levels", type=int, default=3, help="mesh levels for the uncertainty (1-3, default 3)")
+    _parallel_options(p)
     p = command("table", cmd_table, "correction table of a case: table.csv, table.json, report.html, fields-*.vtu")
     p.add_argument("case", help="case file (.toml)")
     p.add_argument("--out", help="output folder (default ./airbias-CASE)")
     p.add_argument("--levels", type=int, default=3, help="mesh levels (1-3, default 3)")
+    _parallel_options(p)
     p = command("solve", cmd_solve, "one operating point: result.json, rotor_plane.csv, fields.vtu")
     p.add_argument("case", help="case file (.toml)")
     p.add_argument("--flow", required=True, help="flow drawn, with its unit: 40L/s, 144m3/h, 85cfm")
@@ -266,10 +275,12 @@ def build_parser() -> argparse.ArgumentParser:
     p.add_argument("case", help="case file (.toml)")
     p.add_argument("--reading", required=True, help="the instrument's reading with its unit: 120cfm, 55L/s")
     p.add_argument("--levels", type=int, default=1, help="mesh levels (1-3, default 1)")
+    _parallel_options(p)
     p = command("compare", cmd_compare, "fixture designs side by side, ranked, with an overlay plot")
     p.add_argument("cases", nargs="+", help="two or more case files")
     p.add_argument("--out", help="output folder (default ./airbias-compare)")
     p.add_argument("--levels", type=int, default=1, help="mesh levels (1-3, default 1)")
+    _parallel_options(p)
     p = command("mesh", cmd_mesh, "the mesh, its quality report and picture, without solving")
     p.add_argument("case", help="case file (.toml)")
     p.add_argument("--level", choices=("coarse", "normal", "fine"), help="mesh level (default: the case's)")
@@ -294,6 +305,7 @@ def build_parser() -> argparse.ArgumentParser:
     p.add_argument("case", help="case file (.toml)")
     p.add_argument("--measured", required=True, help="CSV with columns reading_Ls, reference_Ls[, reference_U95_Ls]")
     p.add_argument("--levels", type=int, default=1, help="mesh levels (1-3, default 1)")
+    _parallel_options(p)
     command("verify", cmd_verify, "run the solver's verification cases and print their errors")
     return parser
 

@@ -22,9 +22,11 @@ from solver.flow import SolverSettings
 from . import figures
 from .atomic import atomic_path, write_bytes, write_text
 from .cautions import CAUTIONS
-from .correction import TableRun, case_instrument, correction_table, levels_for
+from .correction import TableRun, case_instrument, correction_tables, levels_for
 from .pipeline import PreparedFixture, solve_point
 from .report import render_report
+from .store import STORE_FOLDER
+from .sweep import check_parallel
 from .table import CorrectionTable, reading
 from .uncertainty import en_number
 from .units import LITRE_M3
@@ -100,13 +102,28 @@ def write_solve(out: Path, res: SolveResult) -> None:
         write_vtu(tmp, res.solution.problem.mesh, cell_fields(res.solution, res.prepared))
 
 
-def run_table(case: Case, levels: int, progress=None) -> TableRun:
+def _chosen_levels(case: Case, levels: int) -> tuple[str, ...]:
     check_case(case)
     try:
-        chosen = levels_for(levels, case.mesh.level)
+        return levels_for(levels, case.mesh.level)
     except ValueError as error:
         raise CaseError("--levels", str(error)) from None
-    return correction_table(case, levels=chosen, progress=progress)
+
+
+def run_tables(cases: list[Case], levels: int, progress=None, *, workers: int | None = None,
+               scheduler: str | None = None, out: Path | None = None) -> list[TableRun]:
+    """Tables of several cases, all their jobs on one executor (see :mod:`calib.sweep`). With ``out``, solved
+    points are kept in ``out/.airbias-store`` (a rerun resumes) and diverged solves in ``out/diverged-*.json``."""
+    check_parallel(workers, scheduler)
+    chosen = [_chosen_levels(case, levels) for case in cases]
+    store = Path(out) / STORE_FOLDER if out is not None else None
+    return correction_tables(cases, chosen, progress=progress, workers=workers, scheduler=scheduler,
+                             store_dir=store, failure_dir=out)
+
+
+def run_table(case: Case, levels: int, progress=None, *, workers: int | None = None,
+              scheduler: str | None = None, out: Path | None = None) -> TableRun:
+    return run_tables([case], levels, progress, workers=workers, scheduler=scheduler, out=out)[0]
 
 
 def report_figures(run: TableRun) -> dict[str, bytes]:
