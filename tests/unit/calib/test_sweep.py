@@ -174,10 +174,11 @@ def _diverging(monkeypatch, should_diverge):
 
 
 def _keys(case):
-    """Store keys of small_tube's chain (4, 8 L/s) and of the kappa re-solves at 8 L/s."""
+    """Store keys of small_tube's chain (8 then 4 L/s: chains run downward) and of the kappa re-solves
+    at 8 L/s (the middle flow)."""
     settings = SolverSettings()
-    k4 = point_key(case, "coarse", 4e-3, None, {}, settings)
-    k8 = point_key(case, "coarse", 8e-3, k4, {}, settings)
+    k8 = point_key(case, "coarse", 8e-3, None, {}, settings)
+    k4 = point_key(case, "coarse", 4e-3, k8, {}, settings)
     kappa = [point_key(case, "coarse", 8e-3, k8, {"kappa": v}, settings) for v in (0.40, 0.42)]
     return k4, k8, kappa
 
@@ -197,7 +198,7 @@ def test_diverged_flow_is_left_out_with_its_history(serial, tmp_path, monkeypatc
     _diverging(monkeypatch, lambda prepared, flow: flow > 6e-3)
     run = correction_table(case, levels=LEVELS, workers=1, store_dir=store, failure_dir=tmp_path,
                            with_model_sensitivity=False)
-    assert [row.flow_Ls for row in run.table.rows] == [4.0]  # 4 L/s comes from the store
+    assert [row.flow_Ls for row in run.table.rows] == [4.0]  # 4 L/s solved again from rest
     assert any("8 L/s left out" in note for note in run.table.rows[0].notes)
     report = json.loads((tmp_path / "diverged-8Ls-coarse.json").read_text())
     assert report["iteration"] == 3 and report["history"]["continuity"] == [1.0, 10.0, None]
