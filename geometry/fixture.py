@@ -17,8 +17,9 @@ itself (which would force cells with a ~180-degree angle):
   along its normals); ``outer`` lies between the wrap and the duct wall. Q, on the station ahead of
   the nose, is an interior vertex of five cells.
 
-Stations off the hub inside the head are hub-shaped (geometry.grading.HubStations) so that lines run
-straight past the hub. The still air is a core block ahead of the bore and annular blocks out to ``R_amb``.
+Stations off the hub are hub-shaped (geometry.grading.HubStations) so that lines run straight past
+the hub: in the head, and along the whole chain behind the tail (and ahead of a blunt nose), where
+the face's cells are carried at the same fraction of the bore instead of being blended away. The still air is a core block ahead of the bore and annular blocks out to ``R_amb``.
 
 Patches: ``ambient`` (upstream face x = -L_amb and far radial face r = R_amb), ``axis``, ``outlet``,
 walls ``wall`` (duct), ``wall-hub``, ``wall-flange`` (the plate of a flanged or bell mouth),
@@ -43,7 +44,7 @@ from dataclasses import dataclass
 import numpy as np
 
 from .grading import (LEVEL_SCALE, Y_PLUS_TARGET, HubStations, Sizing, axial, cells_needed,  # noqa: F401
-                      explicit_block, graded, line, station)
+                      explicit_block, fractions, graded, kinematic_viscosity_estimate, line, station)
 from .mesh import Mesh, mesh_from_cells
 from .segments import Head, segment_positions, chain_outline
 from .wall_spacing import first_cell_height as pipe_first_cell_height
@@ -52,13 +53,6 @@ from .wall_spacing import friction_velocity_estimate
 AMBIENT_DIAMETERS = 10.0     # default L_amb = R_amb in diameters (doubling it changes little, see tests)
 PROTRUSION_DIAMETERS = 2.0   # thin-wall mouth: length of the protruding pipe outside
 
-
-def kinematic_viscosity_estimate(temperature_K: float, pressure_Pa: float) -> float:
-    """ν (m²/s) for mesh spacing only: Sutherland μ (S = 110.4 K, μ_ref 1.716e-5 Pa s at 273.15 K, White,
-    Viscous Fluid Flow, Table 1-2, from memory) over dry ideal-gas ρ = p/(287.05 T). The solver uses
-    solver/air.py; a 1 % error here moves the first cell by 1 %."""
-    mu = 1.716e-5 * (temperature_K / 273.15) ** 1.5 * (273.15 + 110.4) / (temperature_K + 110.4)
-    return mu / (pressure_Pa / (287.05 * temperature_K))
 
 @dataclass(frozen=True, eq=False)
 class FixtureMesh:
@@ -129,11 +123,11 @@ def _head_columns(head: Head, x0: float, wall, d0, d1, z: Sizing):
     if head.hub_nose == "round":
         xa = xs - min(0.5 * rh, 0.5 * (xs - x0))
         # Q at the radius where the ray from the nose centre leaves the station at 45 degrees
-        hub = HubStations.build(rh, rh + (xs - xa), z)
+        hub = HubStations.build(rh, R, rh + (xs - xa), z)
         front = [_Column(x0, xa, wall, "plain", d0, dh, "round"), _Column(xa, xs + rh, wall, "nose", dh, dh, "round")]
         d_body = dh
     else:
-        hub = HubStations.build(rh, rh, z)
+        hub = HubStations.build(rh, R, rh, z)
         front, d_body = [_Column(x0, xs, wall, "front", d0, h1, "face")], dc
     body = [_Column(front[-1].x1, xr, wall, "hub", d_body, d_rotor), _Column(xr, xe, wall, "hub", d_rotor, dc)]
     return front + body + [wake], hub
@@ -171,8 +165,20 @@ def _columns(case, z: Sizing, mouth_delta: float):
             new = [_Column(x0, x1, wall, "plain", d0, d1)]
         cols += new
         prev_r = float(wall(x1))
+    _face_shaped_beyond_head(cols)
     _radial_counts(cols, z, hub)
     return cols, hub
+
+
+def _face_shaped_beyond_head(cols: list[_Column]) -> None:
+    """Columns downstream of a hub's tail (and upstream of a blunt nose) carry its face's cells too."""
+    kinds = [c.kind for c in cols]
+    if "wake" in kinds:
+        for c in cols[kinds.index("wake") + 1:]:
+            c.shape = "face"
+    if "front" in kinds:
+        for c in cols[:kinds.index("front")]:
+            c.shape = "face"
 
 
 def _jump(left: _Column, right: _Column) -> tuple[float, float]:
@@ -325,8 +331,9 @@ def _extent(case) -> _Extent:
     return _Extent(r0, length, radius, -rb, protrusion, outer)
 
 
-def _ambient_blocks(case, z: Sizing, mouth: np.ndarray, e: _Extent) -> list:
-    """Blocks of the still air (and, for a bell, the flare), joined to the bore's first station ``mouth``."""
+def _ambient_blocks(case, z: Sizing, mouth: np.ndarray, e: _Extent, shaped_mouth: bool = False) -> list:
+    """Blocks of the still air (and, for a bell, the flare), joined to the bore's first station ``mouth``
+    (``shaped_mouth``: it carries a blunt hub face's cells)."""
     amb, q, r0 = case.ambient, z.q_ambient, e.r0
     far = 0.25 * e.length / z.scale
     n0 = len(mouth) - 1
@@ -342,12 +349,15 @@ def _ambient_blocks(case, z: Sizing, mouth: np.ndarray, e: _Extent) -> list:
     tag_core = None
     if bell:
         rb = amb.bell_radius
-        arc = z.piece(lambda f: np.column_stack([-rb * np.cos(0.5 * np.pi * f), e.outer - rb * np.sin(0.5 * np.pi * f)]),
-                      0.5 * np.pi * rb, dm, 0.5 * z.joint(r0), z.axial_cap(r0))
+        flare = (lambda f: np.column_stack([-rb * np.cos(0.5 * np.pi * f), e.outer - rb * np.sin(0.5 * np.pi * f)]))
+        arc = z.piece(flare, 0.5 * np.pi * rb, dm, 0.5 * z.joint(r0), z.axial_cap(r0))
         north = np.vstack([north, arc[1:]])
         tag_core = (lambda xc: np.where(xc > -rb, e.outer - np.sqrt(np.maximum(rb * rb - xc * xc, 0.0)), -1.0))
     south = np.column_stack([north[:, 0], np.zeros(len(north))])
     west = line((e.x_west, 0.0), (e.x_west, inner), np.linspace(0.0, 1.0, n0 + 1))
+    if shaped_mouth:  # far-side sizes: geometric mean of uniform and the mouth's, so a face's thin cells relax
+        size = np.sqrt(np.diff(fractions(mouth)) / n0)
+        west = line((e.x_west, 0.0), (e.x_west, inner), np.concatenate([[0.0], np.cumsum(size)]) / size.sum())
     blocks = [("ambient-core", explicit_block(south, north, west, mouth), tag_core)]
     if amb.mouth == "thin-wall":
         t, n_l = amb.wall_thickness, max(4, int(round(4 * z.scale)))
@@ -459,7 +469,7 @@ def build_fixture_mesh(case, level: str | None = None, first_cell_height: float 
     e = _extent(case)
     cols, hub = _columns(case, z, 0.5 * z.joint(e.r0) if case.ambient.mouth == "bell" else z.corner(e.r0))
     duct, mouth_nodes, rotor_block = _duct_blocks(case, cols, z, hub)
-    blocks = _ambient_blocks(case, z, mouth_nodes, e) + duct
+    blocks = _ambient_blocks(case, z, mouth_nodes, e, cols[0].shape == "face") + duct
     rotor_block += len(blocks) - len(duct)
     outlet_x, outlet_r = cols[-1].x1, float(cols[-1].wall(cols[-1].x1))
     order = list(range(len(blocks)))[::-1] if reverse_blocks else list(range(len(blocks)))

@@ -2,7 +2,7 @@
 radial stations (the node arrays shared by neighbouring blocks) and blocks through explicit side nodes.
 
 A station is the column of nodes on one x = const line from the axis (or the hub) to the duct wall.
-Inside a head with a hub, stations off the hub are *hub-shaped*: their nodes above the hub radius
+With a hub, stations off the hub are *hub-shaped*: in the head their nodes above the hub radius
 (or above the nose's split point) are the hub annulus's own nodes, so grid lines run straight past
 the hub's faces and no block has to blend two different radial distributions there.
 """
@@ -125,6 +125,14 @@ def explicit_block(south, north, west, east) -> Block:
 
 # ---------------------------------------------------------------- target sizes of a mesh level
 
+def kinematic_viscosity_estimate(temperature_K: float, pressure_Pa: float) -> float:
+    """ν (m²/s) for mesh spacing only: Sutherland μ (S = 110.4 K, μ_ref 1.716e-5 Pa s at 273.15 K, White,
+    Viscous Fluid Flow, Table 1-2, from memory) over dry ideal-gas ρ = p/(287.05 T). The solver uses
+    solver/air.py; a 1 % error here moves the first cell by 1 %."""
+    mu = 1.716e-5 * (temperature_K / 273.15) ** 1.5 * (273.15 + 110.4) / (temperature_K + 110.4)
+    return mu / (pressure_Pa / (287.05 * temperature_K))
+
+
 @dataclass(frozen=True)
 class Sizing:
     """Target cell sizes of one mesh level (all lengths in m)."""
@@ -184,19 +192,20 @@ class HubStations:
 
     * annulus: hub to wall, wall-graded at both ends (first cell z.h1(R), y+ ~ 1 on the hub too);
     * ``face`` stations (ahead of a blunt nose, behind the tail): the flat face's nodes (``face_cells``,
-      graded toward the hub edge) under the annulus's nodes;
+      graded toward the hub edge, first cell z.corner(rh)) under the annulus's nodes;
     * ``round`` stations (ahead of a round nose): ``split`` core cells up to the annulus node number
       ``split`` (the radius where the nose blocks meet, see geometry.fixture), then the annulus's nodes.
     """
 
     rh: float
+    r_head: float
     face_cells: int
     split_target: float   # radius of the nose blocks' meeting point, before snapping to an annulus node
 
     @classmethod
-    def build(cls, rh: float, split_target: float, z: Sizing) -> "HubStations":
+    def build(cls, rh: float, r_head: float, split_target: float, z: Sizing) -> "HubStations":
         cap = FACE_CORE_FRACTION * rh / z.scale
-        return cls(rh, cells_needed(rh, None, z.corner(rh), z.q, cap, minimum=3), split_target)
+        return cls(rh, r_head, cells_needed(rh, None, z.corner(rh), z.q, cap, minimum=3), split_target)
 
     def annulus(self, x: float, r_top: float, n: int, z: Sizing) -> np.ndarray:
         return station(x, self.rh, r_top, n, z)
@@ -207,11 +216,16 @@ class HubStations:
         return int(np.clip(np.argmin(np.abs(r - self.split_target)), 2, n - 2))
 
     def shaped(self, x: float, r_top: float, n: int, shape: str, z: Sizing) -> np.ndarray:
-        """A ``face`` (n = face cells + annulus cells) or ``round`` (n = annulus cells) station."""
+        """A ``face`` (n = face cells + annulus cells) or ``round`` (n = annulus cells) station.
+
+        Away from the head (bore r_top), a ``face`` station keeps the face's cells scaled by r_top/R_head
+        (so columns between such stations have no cluster of thin cells to blend away) and grades its
+        wall cells for the local bore."""
         if shape == "face":
-            ring = self.annulus(x, r_top, n - self.face_cells, z)
-            face = line((x, 0.0), (x, self.rh), graded(self.rh, self.face_cells, None, z.corner(self.rh), z.q))
-            return np.vstack([face, ring[1:]])
+            c = r_top / self.r_head
+            rh, f = c * self.rh, graded(self.rh, self.face_cells, None, z.corner(self.rh), z.q)
+            ring = graded(r_top - rh, n - self.face_cells, c * z.h1(self.r_head), z.h1(r_top), z.q)
+            return np.vstack([line((x, 0.0), (x, rh), f), line((x, rh), (x, r_top), ring)[1:]])
         ring = self.annulus(x, r_top, n, z)
         j = self.split(r_top, n, z)
         r_q = ring[j, 1]

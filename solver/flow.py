@@ -32,7 +32,7 @@ class SolverSettings:
     """Outer-iteration controls. Stop when every normalised residual < ``residual_tolerance`` and every
     monitor changed less than ``monitor_tolerance`` (relative) over the last ``monitor_window`` iterations."""
 
-    max_iterations: int = 3000
+    max_iterations: int = 6000
     residual_tolerance: float = 1e-6
     monitor_tolerance: float = 1e-6
     monitor_window: int = 20

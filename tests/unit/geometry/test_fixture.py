@@ -162,3 +162,51 @@ def test_plot_writes_png(tmp_path):
     path = plot_mesh(fm, tmp_path / "fixture.png")
     assert path.read_bytes()[:8] == b"\x89PNG\r\n\x1a\n"
     assert [p.name for p in tmp_path.iterdir()] == ["fixture.png"]
+
+
+def _hub_case(nose):
+    data = copy.deepcopy(BASE)
+    data["segment"] = [dict(BASE["segment"][0], hub_nose=nose, **HUB), BASE["segment"][1]]
+    return parse_case(data, ".")
+
+
+def _cells_at(mesh, point):
+    node = np.flatnonzero(np.hypot(*(mesh.nodes - np.asarray(point)).T) < 1e-12)
+    assert len(node) == 1, f"no mesh node at {point}"
+    return int(np.sum(np.any(mesh.cell_nodes == node[0], axis=1)))
+
+
+@pytest.mark.parametrize("nose", ["round", "blunt"])
+@pytest.mark.parametrize("level", ["coarse", "fine"])
+def test_hub_corners_are_block_corners(nose, level):
+    """The nose tip and the tail's foot are corners of one cell each, the blunt edges of three (a
+    side turning inside one block would put two cells there with a ~180-degree angle)."""
+    case = _hub_case(nose)
+    m = build_fixture_mesh(case, level).mesh
+    xs, rh = HUB["hub_start_mm"] * 1e-3, 0.5 * HUB["hub_diameter_mm"] * 1e-3
+    xe = xs + HUB["hub_length_mm"] * 1e-3
+    assert _cells_at(m, (xs, 0.0)) == 1 and _cells_at(m, (xe, 0.0)) == 1
+    assert _cells_at(m, (xe, rh)) == 3
+    if nose == "blunt":
+        assert _cells_at(m, (xs, rh)) == 3
+
+
+@pytest.mark.parametrize("nose", ["round", "blunt"])
+@pytest.mark.parametrize("level", list(LEVEL_SCALE))
+def test_hub_mesh_quality_and_first_cell(nose, level):
+    """Around a hub the worst non-orthogonality stays below 60 degrees, and the first cell normal to
+    the hub's surface (nose, body, faces) is at most the wall first-cell height (y+ ~ 1); twice the
+    centre's wall distance stands for the cell height, to 1 % on the curved nose's cells."""
+    fm = build_fixture_mesh(_hub_case(nose), level)
+    m = fm.mesh
+    assert m.quality()["max_non_orthogonality_deg"] < 60.0
+    faces = m.patch_faces("wall-hub")
+    owner = m.owner[faces]
+    d = np.abs(np.einsum("ij,ij->i", m.face_centre[faces] - m.cell_centre[owner], m.face_normal[faces]))
+    assert np.all(2.0 * d <= 1.01 * fm.first_cell_height) and np.all(2.0 * d > 0.4 * fm.first_cell_height)
+
+
+@pytest.mark.parametrize("level", list(LEVEL_SCALE))
+def test_reducer_hub_quality(level):
+    fm = build_fixture_mesh(load_case(CASES / "reducer_hub.toml"), level)
+    assert fm.mesh.quality()["max_non_orthogonality_deg"] < 60.0
