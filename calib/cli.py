@@ -9,6 +9,7 @@ from __future__ import annotations
 
 import argparse
 import sys
+import warnings
 import time
 from importlib import resources
 from pathlib import Path
@@ -310,7 +311,12 @@ def build_parser() -> argparse.ArgumentParser:
     return parser
 
 
+def _show_warning(message, category, filename, lineno, file=None, line=None):
+    print(f"airbias: warning: {message}", file=sys.stderr)
+
+
 def main(argv: list[str] | None = None) -> int:
+    warnings.showwarning = _show_warning  # one line per warning, no source location
     parser = build_parser()
     args = parser.parse_args(argv)
     try:

@@ -95,3 +95,12 @@ class MixingLengthClosure:
 
 
 CLOSURES = {"laminar": LaminarClosure, "mixing-length": MixingLengthClosure}
+
+
+def first_cell_y_plus(problem, state, wall_faces: np.ndarray) -> np.ndarray:
+    """y+ of the wall-adjacent cell centres, y+ = u_tau dn / nu, from each wall face's own shear."""
+    nu = problem.viscosity / problem.density
+    u_tau = np.empty(len(wall_faces))
+    wall_friction_velocity(problem.mesh.owner, wall_faces, problem.mesh.face_normal, problem.geometry.dn,
+                           state.u, state.v, nu, u_tau)
+    return u_tau * problem.geometry.dn[wall_faces] / nu

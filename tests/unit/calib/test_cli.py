@@ -153,3 +153,16 @@ def test_demo_case_is_the_reducer_example():
     """The bundled demo is the documented example case (kept identical so README and demo agree)."""
     root = Path(__file__).resolve().parents[3]
     assert (root / "calib" / "demo" / "demo.toml").read_text() == (root / "cases" / "reducer_hub.toml").read_text()
+
+
+def test_solve_reports_first_cell_y_plus_and_warns_beyond_2(tmp_path, capsys):
+    """The mesh is graded for y+ <= 1 at the case's highest flow (8 L/s) from a pipe friction law; the check
+    after the solve uses the solver's own wall shear. At 40 L/s it must exceed 2 and the command must say
+    so. (At 6 L/s the flange cells next to the sharp lip already reach y+ 3.7, where the lip accelerates the
+    flow beyond the pipe estimate: reported, not hidden.)"""
+    out = tmp_path / "s"
+    assert main(["solve", str(SMALL), "--flow", "6L/s", "--out", str(out)]) == 0
+    assert json.loads((out / "result.json").read_text())["max_wall_y_plus"] > 0.0
+    capsys.readouterr()
+    assert main(["solve", str(SMALL), "--flow", "40L/s", "--out", str(tmp_path / "t")]) == 0
+    assert "first-cell y+ reaches" in capsys.readouterr().err
