@@ -152,7 +152,7 @@ def check_wall_resolution(prepared: PreparedFixture, solution: FlowSolution, flo
     if y_plus > WALL_Y_PLUS_LIMIT:
         warnings.warn(f"first-cell y+ reaches {y_plus:.1f} at x = {x * 1e3:.1f} mm, r = {r * 1e3:.1f} mm "
                       f"({flow * 1e3:.4g} L/s, {prepared.level} mesh; the closure assumes about 1): results "
-                      f"there are less reliable; a finer level resolves it", WallResolutionWarning, stacklevel=2)
+                      f"there are less reliable (try a finer mesh level)", WallResolutionWarning, stacklevel=2)
 
 
 def sweep_level(prepared: PreparedFixture, flows, settings: SolverSettings = SolverSettings(),
