@@ -260,7 +260,9 @@ def build_parser() -> argparse.ArgumentParser:
 
     p = command("demo", cmd_demo, "run the bundled demo case end to end into ./airbias-demo/")
     p.add_argument("--out", help="output folder (default ./airbias-demo)")
-    p.add_argument("--levels", type=int, default=3, help="mesh levels for the uncertainty (1-3, default 3)")
+    p.add_argument("--levels", type=int, default=2,
+                   help="mesh levels for the numerical uncertainty (1-3; default 2, coarse and normal, so the "
+                        "demo takes minutes; 3 adds the fine level)")
     _parallel_options(p)
     p = command("table", cmd_table, "correction table of a case: table.csv, table.json, report.html, fields-*.vtu")
     p.add_argument("case", help="case file (.toml)")
