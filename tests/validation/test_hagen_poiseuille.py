@@ -30,7 +30,7 @@ def test_profile_l2_error_below_half_percent(poiseuille):
     exact = 2 * U_BULK * (1 - (c[:, 1] / R) ** 2)
     v = mesh.cell_volume
     error = np.sqrt(((sol.state.u - exact) ** 2 * v).sum() / (exact**2 * v).sum())
-    assert error < 0.005  # measured 0.07 %
+    assert error < 0.005  # measured 0.02 %
 
 
 def test_darcy_friction_times_reynolds_is_64(poiseuille):
@@ -44,4 +44,4 @@ def test_darcy_friction_times_reynolds_is_64(poiseuille):
     dpdx = (p1 - p2) / (c[second, 0].mean() - c[first, 0].mean())
     f = dpdx * 2 * R / (0.5 * RHO * U_BULK**2)
     reynolds = RHO * U_BULK * 2 * R / MU
-    assert f * reynolds == pytest.approx(64.0, rel=0.01)  # measured 63.9
+    assert f * reynolds == pytest.approx(64.0, rel=0.01)  # measured 63.93 (-0.1 %)
