@@ -313,12 +313,9 @@ def build_parser() -> argparse.ArgumentParser:
     return parser
 
 
-def _show_warning(message, category, filename, lineno, file=None, line=None):
-    print(f"airbias: warning: {message}", file=sys.stderr)
-
-
 def main(argv: list[str] | None = None) -> int:
-    warnings.showwarning = _show_warning  # one line per warning, no source location
+    from .pipeline import show_user_warning
+    warnings.showwarning = show_user_warning  # one line per warning, no source location
     parser = build_parser()
     args = parser.parse_args(argv)
     try:

@@ -126,6 +126,12 @@ def solve_point(prepared: PreparedFixture, flow: float, initial: FlowState | Non
     return point, solution
 
 
+def show_user_warning(message, category, filename, lineno, file=None, line=None):
+    """One line per warning on stderr, no source location (installed by the CLI and in pool workers)."""
+    import sys
+    print(f"airbias: warning: {message}", file=sys.stderr)
+
+
 class WallResolutionWarning(UserWarning):
     """The first cells are further from the wall than the closure's y+ ~ 1 assumption allows."""
 

@@ -50,7 +50,7 @@ from solver.convergence import DivergenceError
 from solver.flow import FlowState, SolverSettings
 
 from .atomic import write_text
-from .pipeline import PreparedFixture, case_constants, scaled_state, solve_point
+from .pipeline import PreparedFixture, case_constants, scaled_state, show_user_warning, solve_point
 from .store import PointStore, StoredPoint, point_key
 from .table import PointResult
 from .units import LITRE_M3
@@ -178,6 +178,8 @@ _PROGRESS_QUEUE = None  # set in process-pool workers: progress goes to the pare
 def _init_worker(progress_queue) -> None:
     global _PROGRESS_QUEUE
     _PROGRESS_QUEUE = progress_queue
+    import warnings
+    warnings.showwarning = show_user_warning
 
 
 def _chain_progress(job: ChainJob, progress):
