@@ -6,6 +6,7 @@ pressures by its square), which is the dimensionally right guess at high Reynold
 """
 from __future__ import annotations
 
+import sys
 import time
 import warnings
 from dataclasses import dataclass
@@ -128,7 +129,6 @@ def solve_point(prepared: PreparedFixture, flow: float, initial: FlowState | Non
 
 def show_user_warning(message, category, filename, lineno, file=None, line=None):
     """One line per warning on stderr, no source location (installed by the CLI and in pool workers)."""
-    import sys
     print(f"airbias: warning: {message}", file=sys.stderr)
 
 
