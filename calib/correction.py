@@ -218,9 +218,3 @@ def correction_table(case: Case, levels=LEVEL_ORDER, settings: SolverSettings = 
     """Solve the case's sweep on each level and build its correction table (see :func:`correction_tables`)."""
     return correction_tables([case], [levels], settings, progress, with_model_sensitivity, workers=workers,
                              scheduler=scheduler, store_dir=store_dir, failure_dir=failure_dir)[0]
-
-
-def scale_start(solution, flow: float, viscosity: float):
-    """Start for a new flow from a solved one (used by single-point jobs that reuse a sweep)."""
-    ratio = flow / solution.problem.boundaries["outlet"].flow
-    return scaled_state(solution.state, ratio, viscosity)

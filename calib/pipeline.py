@@ -1,13 +1,13 @@
 """From a case to solved operating points: fixture mesh -> flow problem -> solve -> rotor-plane reading.
 
-Plain orchestration: the physics lives in ``solver``, the geometry in ``geometry``. A sweep over flows
-starts each flow from the previous flow's solution scaled by the flow ratio (velocities by the ratio,
-pressures by its square), which is the dimensionally right guess at high Reynolds number.
+Plain orchestration: the physics lives in ``solver``, the geometry in ``geometry``. Sweeps
+(:mod:`calib.sweep`) start each flow from the previous flow's solution scaled by the flow ratio
+(:func:`scaled_state`: velocities by the ratio, pressures by its square), the dimensionally right guess
+at high Reynolds number.
 """
 from __future__ import annotations
 
 import sys
-import time
 import warnings
 from dataclasses import dataclass
 from typing import Callable
@@ -23,7 +23,7 @@ from solver.closure import LaminarClosure, MixingLengthClosure, first_cell_y_plu
 from solver.flow import FlowProblem, FlowSolution, FlowState, SolverSettings, solve
 from solver.mixing_length import MixingLengthConstants
 
-from .rotor_plane import plane_flux, rotor_plane_profile
+from .rotor_plane import rotor_plane_profile
 from .table import PointResult
 
 
@@ -159,28 +159,3 @@ def check_wall_resolution(prepared: PreparedFixture, solution: FlowSolution, flo
         warnings.warn(f"first-cell y+ reaches {y_plus:.1f} at x = {x * 1e3:.1f} mm, r = {r * 1e3:.1f} mm "
                       f"({flow * 1e3:.4g} L/s, {prepared.level} mesh; the closure assumes about 1): results "
                       f"there are less reliable (try a finer mesh level)", WallResolutionWarning, stacklevel=2)
-
-
-def sweep_level(prepared: PreparedFixture, flows, settings: SolverSettings = SolverSettings(),
-                progress: Callable[[float, int, dict], None] | None = None):
-    """Solve every flow of a sweep at one level, each from the previous solution scaled; yields (point, solution)."""
-    previous: FlowSolution | None = None
-    for flow in flows:
-        initial = None
-        if previous is not None:
-            ratio = flow / previous.problem.boundaries["outlet"].flow
-            initial = scaled_state(previous.state, ratio, prepared.air.viscosity)
-        step = (lambda i, r, q=flow: progress(q, i, r)) if progress else None
-        point, previous = solve_point(prepared, flow, initial, settings, step)
-        yield point, previous
-
-
-def rotor_plane_flux(solution: FlowSolution, fixture) -> float:
-    r_in, r_out = fixture.rotor_annulus
-    return plane_flux(solution, fixture.rotor_x, r_in, r_out)
-
-
-def timed(fn, *args, **kwargs):
-    start = time.perf_counter()
-    out = fn(*args, **kwargs)
-    return out, time.perf_counter() - start

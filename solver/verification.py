@@ -51,7 +51,6 @@ def developing_laminar(reynolds: float = 500.0, axial_cells: int = 150, radial_c
 
 def pipe_wall_data(mesh):
     """Exact wall distance (R - r) and nearest wall face of every cell of a straight pipe mesh."""
-    from .closure import MixingLengthClosure  # noqa: F401  (documents the consumer)
     wall = mesh.patch_faces("wall")
     radius = float(mesh.face_centre[wall, 1].max())
     order = np.argsort(mesh.face_centre[wall, 0])
