@@ -83,19 +83,23 @@ def _print_table(table):
               f"{(1 / row.K - 1) * 100:+8.1f} {row.pressure_drop_Pa:9.4g}")
 
 
-def cmd_table(args) -> int:
+def _table_and_report(args, case, out: Path) -> int:
+    """Solve the table, write every output file, print the table and where the report is."""
     from .jobs import write_table
-    case = _case(args.case)
-    out = _out(args, f"airbias-{Path(args.case).stem}")
     run, = _tables(args, [case], Progress(), out)
     report = write_table(out, case, run)
     _print_table(run.table)
-    print(f"report: {report}")
+    print(f"report: {report.resolve()}")
     return 0
 
 
+def cmd_table(args) -> int:
+    case = _case(args.case)
+    out = _out(args, f"airbias-{Path(args.case).stem}")
+    return _table_and_report(args, case, out)
+
+
 def cmd_demo(args) -> int:
-    from .jobs import write_table
     out = Path(args.out or "airbias-demo")
     source = resources.files("calib") / "demo" / "demo.toml"
     text = source.read_text()
@@ -106,11 +110,7 @@ def cmd_demo(args) -> int:
     for caution in CAUTIONS[:2]:
         print(f"  caution: {caution}")
     case = load_case(case_path)
-    run, = _tables(args, [case], Progress(), out)
-    report = write_table(out, case, run)
-    _print_table(run.table)
-    print(f"report: {report.resolve()}")
-    return 0
+    return _table_and_report(args, case, out)
 
 
 def cmd_solve(args) -> int:

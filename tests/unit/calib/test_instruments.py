@@ -7,21 +7,13 @@ import pytest
 from calib.instruments import INSTRUMENTS, Instrument, build_instrument
 from calib.profile import RotorPlaneProfile
 from geometry.schema import CaseError, Key
+from .instrument_tables import CASES
 
 HEAD_AREA = 80e-4  # m^2
 R = 0.05  # m, rotor-plane wall radius
 
 WEIGHTS_CSV = "r_mm,w\n0,1.0\n25,2.0\n50,3.0\n"
 
-# One minimal valid [instrument] table per kind; a new kind must add one here.
-CASES = {
-    "area-mean": {"kind": "area-mean"},
-    "point": {"kind": "point", "at_r_mm": 12.0},
-    "traverse": {"kind": "traverse", "rule": "log-chebyshev", "points": 5},
-    "weighted": {"kind": "weighted", "table": "weights.csv"},
-    "vane": {"kind": "vane", "nominal_area_cm2": 78.5, "tip_diameter_mm": 96, "hub_diameter_mm": 30,
-             "blades": 8, "pitch_mm": 150, "chord_mm": 12},
-}
 
 
 @pytest.fixture

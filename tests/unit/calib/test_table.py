@@ -21,6 +21,7 @@ from calib.instruments import INSTRUMENTS, AreaMeanInstrument, PointInstrument, 
 from calib.profile import RotorPlaneProfile
 from calib.table import NO_NUMERICAL, CorrectionTable, PointResult, build_table, reading
 from calib.uncertainty import gci_three_grids
+from .instrument_tables import CASES as KINDS
 
 R = 0.05  # m
 AREA = math.pi * R ** 2
@@ -231,15 +232,6 @@ def test_bad_budget_inputs_are_refused():
         build_table(points, AreaMeanInstrument(nominal_area=AREA), model_perturbations={"k": (0.1,)})
 
 
-# One minimal [instrument] table per registered kind (as in test_instruments.py).
-KINDS = {
-    "area-mean": {"kind": "area-mean"},
-    "point": {"kind": "point", "at_r_mm": 12.0},
-    "traverse": {"kind": "traverse", "rule": "log-chebyshev", "points": 5},
-    "weighted": {"kind": "weighted", "table": "weights.csv"},
-    "vane": {"kind": "vane", "nominal_area_cm2": 78.5, "tip_diameter_mm": 96, "hub_diameter_mm": 30,
-             "blades": 8, "pitch_mm": 150, "chord_mm": 12},
-}
 
 
 def test_every_kind_is_listed():
