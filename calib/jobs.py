@@ -51,10 +51,12 @@ def cell_fields(solution, prepared: PreparedFixture) -> dict[str, np.ndarray]:
 
 def check_case(case: Case) -> None:
     """Refuse, before any solving, what would only fail later (the instrument table)."""
-    prepared_area = math.pi * (case.head.diameter / 2) ** 2
     from .instruments import build_instrument
+    from .pipeline import case_air
+    head_area = math.pi * (case.head.diameter / 2) ** 2  # the hub only changes the default nominal area
     try:
-        build_instrument(case.instrument_table, head_free_area=prepared_area, base_dir=case.base_dir, air_density=1.2)
+        build_instrument(case.instrument_table, head_free_area=head_area, base_dir=case.base_dir,
+                         air_density=case_air(case).density)
     except CaseError:
         raise
     except ValueError as error:
