@@ -109,6 +109,24 @@ class Block:
         return grid
 
 
+@dataclass(frozen=True, eq=False)
+class GridBlock:
+    """A block given directly by its node grid (ni+1, nj+1, 2), for node layouts TFI cannot give."""
+
+    grid: np.ndarray
+
+    @property
+    def i(self) -> Spacing:
+        return Spacing(self.grid.shape[0] - 1)
+
+    @property
+    def j(self) -> Spacing:
+        return Spacing(self.grid.shape[1] - 1)
+
+    def node_grid(self) -> np.ndarray:
+        return self.grid
+
+
 def merge_blocks(blocks: list[Block], tolerance: float = 1e-9) -> Mesh:
     """Join blocks into one mesh; nodes closer than ``tolerance`` x domain size are the same node."""
     grids = [b.node_grid() for b in blocks]

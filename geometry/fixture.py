@@ -3,7 +3,10 @@
 Topology (H-type, one block per duct column): the chain is cut at *stations* (segment joints, the
 rotor plane, the hub's nose and tail); each column between two stations is one block from the axis
 (or the hub) to the wall. Neighbouring blocks share the node array of their station, so a station
-with a sudden area change carries the smaller bore's nodes plus the nodes of the step face.
+with a sudden area change carries the smaller bore's nodes plus the nodes of the step face. In the
+wide column those nodes relax to the column's own station within ``STEP_RELAX_RADII`` local radii of the
+step (geometry.grading.relaxed_block), so the lip's thin cells stay near the lip; a contraction whose face
+needs more cells than the chain carries raises the count upstream (``_radial_counts``).
 
 Around a hub, block corners sit at the fluid region's own corners, so no block side turns inside
 itself (which would force cells with a ~180-degree angle):
@@ -43,8 +46,9 @@ from dataclasses import dataclass
 
 import numpy as np
 
-from .grading import (LEVEL_SCALE, Y_PLUS_TARGET, HubStations, Sizing, axial, cells_needed,  # noqa: F401
-                      explicit_block, fractions, graded, kinematic_viscosity_estimate, line, station)
+from .grading import (LEVEL_SCALE, STEP_RELAX_RADII, Y_PLUS_TARGET, HubStations, Sizing, axial,  # noqa: F401
+                      cells_needed, explicit_block, fractions, graded, kinematic_viscosity_estimate, line,
+                      relaxed_block, station)
 from .mesh import Mesh, mesh_from_cells
 from .segments import Head, segment_positions, chain_outline
 from .wall_spacing import first_cell_height as pipe_first_cell_height
@@ -189,7 +193,9 @@ def _jump(left: _Column, right: _Column) -> tuple[float, float]:
 def _radial_counts(cols: list[_Column], z: Sizing, hub: HubStations | None) -> None:
     """Radial cells per column: a sudden expansion adds the cells of its face, a contraction drops them;
     a blunt hub face takes its cells from the stations ahead of it and gives them back behind the tail,
-    so the annulus keeps the chain's count."""
+    so the annulus keeps the chain's count. A contraction whose face needs more cells than the wide side
+    can spare (keeping ``n_min`` in the bore) raises the count upstream, back to the mouth or to the wide
+    side of an earlier expansion (whose face takes the extra cells)."""
     n_min = max(8, int(0.7 * z.radial_cells))
     face = hub.face_cells if hub is not None else 0
     cols[0].n = z.radial_cells + (face if any(c.kind == "front" for c in cols) else 0)
@@ -202,7 +208,19 @@ def _radial_counts(cols: list[_Column], z: Sizing, hub: HubStations | None) -> N
             continue
         small, big = min(r_l, r_r), max(r_l, r_r)
         k = cells_needed(big - small, z.corner(small), z.h1(big), z.q, 2.5 * big / z.radial_cells, minimum=3)
-        right.n = left.n + k if r_r > r_l else left.n - max(3, min(k, left.n - n_min))
+        if r_r < r_l and left.n - k < n_min:
+            _raise_upstream(cols, cols.index(left), n_min + k - left.n)
+        right.n = left.n + k if r_r > r_l else left.n - k
+
+
+def _raise_upstream(cols: list[_Column], k: int, extra: int) -> None:
+    """Add ``extra`` radial cells to column k and to those ahead of it up to an expansion's wide side."""
+    for j in range(k, -1, -1):
+        cols[j].n += extra
+        if j > 0:
+            r_l, r_r = _jump(cols[j - 1], cols[j])
+            if r_r > r_l * (1 + 1e-9):
+                return
 
 
 # ---------------------------------------------------------------- stations and duct blocks
@@ -238,6 +256,29 @@ def _station_views(left: _Column | None, right: _Column | None, z: Sizing, hub):
     face = line((x, small), (x, big), graded(big - small, n_big - n_small, z.corner(small), z.h1(big), z.q))
     full = np.vstack([core, face[1:]])
     return (core, full) if r_l < r_r else (full, core)
+
+
+def _step_relaxation(cols: list[_Column], k: int) -> tuple[float, float]:
+    """Lengths (m) over which column k's west/east station relaxes to its own: nonzero where the column is
+    the wide side of a sudden area change (its station carries the step face's cells)."""
+    col = cols[k]
+    wide_west = k > 0 and _jump(cols[k - 1], col)[1] > _jump(cols[k - 1], col)[0] * (1 + 1e-9)
+    wide_east = k + 1 < len(cols) and _jump(col, cols[k + 1])[0] > _jump(col, cols[k + 1])[1] * (1 + 1e-9)
+    lw = STEP_RELAX_RADII * float(col.wall(col.x0)) if wide_west else 0.0
+    le = STEP_RELAX_RADII * float(col.wall(col.x1)) if wide_east else 0.0
+    fit = min(1.0, (col.x1 - col.x0) / (lw + le)) if lw + le > 0 else 1.0
+    return lw * fit, le * fit
+
+
+def _column_block(cols, k, south, north, west, east, z: Sizing, hub):
+    """Column k's block: transfinite between its stations, or relaxed next to a step (grading.relaxed_block)."""
+    col = cols[k]
+    lw, le = _step_relaxation(cols, k)
+    if lw == 0.0 and le == 0.0:
+        return explicit_block(south, north, west, east)
+    own_w = _col_station(col, col.x0, float(col.wall(col.x0)), "west", z, hub)
+    own_e = _col_station(col, col.x1, float(col.wall(col.x1)), "east", z, hub)
+    return relaxed_block(south, north, west, east, own_w, own_e, lw, le)
 
 
 def _nose_blocks(col: _Column, west: np.ndarray, east: np.ndarray, hub: HubStations, z: Sizing):
@@ -288,7 +329,7 @@ def _duct_blocks(case, cols: list[_Column], z: Sizing, hub):
         north = np.column_stack([x, col.wall(x)])
         if abs(col.x0 - rotor_x) < 1e-12 * (1.0 + abs(rotor_x)):
             rotor_block = len(out)
-        out.append((f"duct-{k}-{col.kind}", explicit_block(south, north, west, east), col.wall))
+        out.append((f"duct-{k}-{col.kind}", _column_block(cols, k, south, north, west, east, z, hub), col.wall))
     return out, views[0][1], rotor_block
 
 
@@ -333,7 +374,7 @@ def _extent(case) -> _Extent:
 
 def _ambient_blocks(case, z: Sizing, mouth: np.ndarray, e: _Extent, shaped_mouth: bool = False) -> list:
     """Blocks of the still air (and, for a bell, the flare), joined to the bore's first station ``mouth``
-    (``shaped_mouth``: it carries a blunt hub face's cells)."""
+    (``shaped_mouth``: it carries a blunt hub face's cells or a contraction's extra cells)."""
     amb, q, r0 = case.ambient, z.q_ambient, e.r0
     far = 0.25 * e.length / z.scale
     n0 = len(mouth) - 1
@@ -469,7 +510,9 @@ def build_fixture_mesh(case, level: str | None = None, first_cell_height: float 
     e = _extent(case)
     cols, hub = _columns(case, z, 0.5 * z.joint(e.r0) if case.ambient.mouth == "bell" else z.corner(e.r0))
     duct, mouth_nodes, rotor_block = _duct_blocks(case, cols, z, hub)
-    blocks = _ambient_blocks(case, z, mouth_nodes, e, cols[0].shape == "face") + duct
+    # a mouth carrying extra cells (a blunt face's, or a contraction's downstream) relaxes them in the still air
+    extra = cols[0].n > z.radial_cells + (hub.face_cells if cols[0].shape == "face" else 0)
+    blocks = _ambient_blocks(case, z, mouth_nodes, e, cols[0].shape == "face" or extra) + duct
     rotor_block += len(blocks) - len(duct)
     outlet_x, outlet_r = cols[-1].x1, float(cols[-1].wall(cols[-1].x1))
     order = list(range(len(blocks)))[::-1] if reverse_blocks else list(range(len(blocks)))
