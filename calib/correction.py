@@ -30,7 +30,7 @@ from solver.mixing_length import MixingLengthConstants
 from solver.pipe1d import model_form_deviation
 
 from .instruments import Instrument, build_instrument
-from .pipeline import PreparedFixture, scaled_state
+from .pipeline import PreparedFixture, scaled_state, warn_wall_resolution
 from .profile import RotorPlaneProfile
 from .sweep import (CaseSource, DivergedPoint, SweepPlan, SweepResult, make_runner, prepared_fixture, run_sweeps,
                     write_divergence_reports)
@@ -205,6 +205,8 @@ def correction_tables(cases: list[Case], levels: list, settings: SolverSettings 
              for source, order, case in zip(sources, orders, cases)]
     with make_runner(workers, scheduler, progress, jobs=sum(p.job_count() for p in plans)) as runner:
         results = run_sweeps(plans, runner)
+    for result in results:
+        warn_wall_resolution([p.point for p in result.points])
     if failure_dir is not None:
         for result in results:
             write_divergence_reports(failure_dir, result.diverged)

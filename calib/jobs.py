@@ -23,7 +23,7 @@ from . import figures
 from .atomic import atomic_path, write_bytes, write_text
 from .cautions import CAUTIONS
 from .correction import TableRun, case_instrument, correction_tables, levels_for
-from .pipeline import PreparedFixture, max_wall_y_plus, solve_point
+from .pipeline import PreparedFixture, solve_point
 from .report import render_report
 from .store import STORE_FOLDER
 from .sweep import check_parallel
@@ -89,7 +89,7 @@ def run_solve(case: Case, flow: float, level: str | None, progress=None) -> Solv
                         "momentum_coefficient": profile.momentum_coefficient,
                         "energy_coefficient": profile.energy_coefficient},
         "instrument": instrument.KIND, "indicated_ms": velocity, "indicated_Ls": indicated / LITRE_M3, "K": k,
-        "max_wall_y_plus": max_wall_y_plus(prepared, solution)[0],
+        "max_wall_y_plus": point.wall_y_plus,
         "warnings": list(case.warnings()),
     }
     rows = [(r * 1e3, u, v) for r, u, v in zip(profile.r, profile.u, profile.v)]

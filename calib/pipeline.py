@@ -110,8 +110,11 @@ def scaled_state(state: FlowState, ratio: float, viscosity: float) -> FlowState:
 
 def solve_point(prepared: PreparedFixture, flow: float, initial: FlowState | None = None,
                 settings: SolverSettings = SolverSettings(),
-                progress: Callable[[int, dict], None] | None = None) -> tuple[PointResult, FlowSolution]:
-    """Solve one operating point and read the rotor-plane profile."""
+                progress: Callable[[int, dict], None] | None = None,
+                warn_wall: bool = True) -> tuple[PointResult, FlowSolution]:
+    """Solve one operating point and read the rotor-plane profile. ``warn_wall``: warn here when the first
+    cells sit beyond y+ = 2 (a sweep passes False and warns once per mesh level, see
+    :func:`warn_wall_resolution`)."""
     fixture = prepared.fixture
     problem = prepared.problem(flow)
     solution = solve(problem, settings, initial=initial, progress=progress)
@@ -120,10 +123,13 @@ def solve_point(prepared: PreparedFixture, flow: float, initial: FlowState | Non
     outlet = problem.mesh.patch_faces("outlet")
     area = problem.mesh.face_area[outlet]
     outlet_pressure = float((solution.state.p[problem.mesh.owner[outlet]] * area).sum() / area.sum())
+    y_plus, where = max_wall_y_plus(prepared, solution)
     point = PointResult(flow=flow, level=prepared.level, cells=problem.mesh.n_cells, iterations=solution.iterations,
                         converged=solution.converged, wall_s=solution.wall_seconds,
-                        pressure_drop_Pa=-outlet_pressure, profile=profile)
-    check_wall_resolution(prepared, solution, flow)
+                        pressure_drop_Pa=-outlet_pressure, profile=profile, wall_y_plus=y_plus,
+                        wall_y_plus_at=where)
+    if warn_wall:
+        warn_wall_resolution([point])
     return point, solution
 
 
@@ -151,11 +157,17 @@ def max_wall_y_plus(prepared: PreparedFixture, solution: FlowSolution) -> tuple[
     return float(y_plus[worst]), (float(x), float(r))
 
 
-def check_wall_resolution(prepared: PreparedFixture, solution: FlowSolution, flow: float) -> None:
-    """After a solve: warn when wall-adjacent cells sit beyond y+ = 2 (the estimate made before meshing,
-    from a smooth-pipe friction law at the highest flow, misses local peaks such as a sharp lip)."""
-    y_plus, (x, r) = max_wall_y_plus(prepared, solution)
-    if y_plus > WALL_Y_PLUS_LIMIT:
-        warnings.warn(f"first-cell y+ reaches {y_plus:.1f} at x = {x * 1e3:.1f} mm, r = {r * 1e3:.1f} mm "
-                      f"({flow * 1e3:.4g} L/s, {prepared.level} mesh; the closure assumes about 1): results "
+def warn_wall_resolution(points: list[PointResult]) -> None:
+    """One warning per mesh level whose wall-adjacent cells sit beyond y+ = 2 at some flow (the estimate made
+    before meshing, from a smooth-pipe friction law at the highest flow, misses local peaks such as a
+    sharp lip), naming the worst place."""
+    for level in dict.fromkeys(p.level for p in points):
+        above = [p for p in points if p.level == level and p.wall_y_plus > WALL_Y_PLUS_LIMIT]
+        if not above:
+            continue
+        worst = max(above, key=lambda p: p.wall_y_plus)
+        x, r = worst.wall_y_plus_at
+        flows = "" if len(above) == 1 else f"; above {WALL_Y_PLUS_LIMIT:g} at {len(above)} flows"
+        warnings.warn(f"first-cell y+ reaches {worst.wall_y_plus:.1f} at x = {x * 1e3:.1f} mm, r = {r * 1e3:.1f} mm "
+                      f"({worst.flow * 1e3:.4g} L/s, {level} mesh{flows}; the closure assumes about 1): results "
                       f"there are less reliable (try a finer mesh level)", WallResolutionWarning, stacklevel=2)

@@ -219,7 +219,7 @@ def _run_chain(job: ChainJob, progress) -> ChainResult:
                                                                        prepared.air.viscosity)
             callback = (lambda i, r, q=flow: step(q, i, r)) if step else None
             try:
-                point, solution = solve_point(prepared, flow, initial, job.settings, callback)
+                point, solution = solve_point(prepared, flow, initial, job.settings, callback, warn_wall=False)
             except DivergenceError as error:
                 result.diverged.append(DivergedPoint(flow, job.level, overrides, error.iteration, str(error),
                                                      dict(error.residuals), dict(error.history)))

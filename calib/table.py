@@ -65,6 +65,8 @@ class PointResult:
     wall_s: float
     pressure_drop_Pa: float
     profile: RotorPlaneProfile
+    wall_y_plus: float = 0.0                       # largest first-cell y+ from the solved wall shear
+    wall_y_plus_at: tuple[float, float] = (0.0, 0.0)  # where (x, r), m
 
 
 def reading(point: PointResult, instrument: Instrument) -> tuple[float, float, float]:

@@ -166,3 +166,19 @@ def test_solve_reports_first_cell_y_plus_and_warns_beyond_2(tmp_path, capsys):
     capsys.readouterr()
     assert main(["solve", str(SMALL), "--flow", "40L/s", "--out", str(tmp_path / "t")]) == 0
     assert "first-cell y+ reaches" in capsys.readouterr().err
+
+
+def test_table_warns_about_wall_resolution_once_per_level(tmp_path, capsys):
+    """A sweep names the worst first-cell y+ of each mesh level once, not once per flow."""
+    import warnings as w
+    from calib.correction import correction_table
+    from geometry.case import load_case
+    case = load_case(SMALL)
+    with w.catch_warnings(record=True) as caught:
+        w.simplefilter("always")
+        run = correction_table(case, levels=("coarse",), with_model_sensitivity=False, workers=1)
+    messages = [str(c.message) for c in caught if "first-cell y+" in str(c.message)]
+    worst = max(p.wall_y_plus for p in run.points)
+    assert len(messages) == (1 if worst > 2.0 else 0)
+    if messages:
+        assert f"{worst:.1f}" in messages[0] and "coarse mesh" in messages[0]
