@@ -46,8 +46,8 @@ class SolverSettings:
     # Safeguard against a limiter that makes the iteration cycle: freeze it at ``limiter_freeze_iteration``
     # (None: never by count) or when the continuity residual has not improved by 10 % over
     # ``limiter_stall_window`` iterations. Freezing early costs accuracy: a limiter frozen on a transient
-    # field left axial wiggles of +-18 m/s near the axis of the demo's outlet tube and doubled the iteration
-    # count (measured, demo at level normal: 2033 iterations frozen at 300, 1217 never frozen).
+    # field left axial wiggles near the axis of the demo's outlet tube (second difference of u up to 18.5 m/s,
+    # 0.06 m/s live) and slowed the iteration (demo at level normal: 2033 iterations frozen at 300, 1217 live).
     limiter_freeze_iteration: int | None = None
     limiter_stall_window: int = 300
     # Anderson acceleration of the outer iteration (solver.acceleration): the last ``anderson_depth``
@@ -364,7 +364,7 @@ def solve(problem: FlowProblem, settings: SolverSettings = SolverSettings(), ini
     """Run SIMPLEC outer iterations to convergence; raise :class:`DivergenceError` if the solve blows up."""
     # One BLAS thread: the iteration's BLAS calls (dot products, the acceleration's small least squares)
     # gain nothing from threads, and threaded OpenBLAS spin-waits whenever the cores are busy (measured,
-    # demo point at level normal, load 5 on 2 cores: 82.7 s with the default threads, 7.6 s with one).
+    # demo point at level normal, load 5 on 2 cores: 82.7 s with the default threads, 9.1 s with one).
     with threadpool_limits(limits=1, user_api="blas"):
         return _solve(problem, settings, initial, progress)
 
