@@ -227,3 +227,29 @@ def test_nothing_converged_exits_3_naming_the_failures(tmp_path, monkeypatch, ca
     assert sorted(p.name for p in out.glob("diverged-*.json")) == ["diverged-4Ls-coarse.json",
                                                                  "diverged-8Ls-coarse.json"]
     assert not (out / "table.csv").exists()
+
+
+@pytest.fixture(scope="module")
+def two_levels():
+    """small_tube on coarse and normal, serial, without the closure re-solves."""
+    return correction_table(load_case(SMALL), levels=("coarse", "normal"), workers=1, with_model_sensitivity=False)
+
+
+def test_finest_level_starts_from_the_coarser_solution(two_levels):
+    """The finest level's highest flow starts from the coarser level's solution carried onto its mesh, so it
+    needs fewer iterations than the same solve from rest."""
+    from calib.pipeline import PreparedFixture, solve_point
+    case = load_case(SMALL)
+    top = max(case.operating.flows)
+    nested = next(p for p in two_levels.points if p.level == "normal" and p.flow == top)
+    from_rest, _ = solve_point(PreparedFixture.build(case, level="normal"), top, warn_wall=False)
+    assert nested.converged and from_rest.converged
+    assert nested.iterations < from_rest.iterations
+    assert nested.profile.centre_velocity == pytest.approx(from_rest.profile.centre_velocity, rel=1e-5)
+
+
+def test_two_level_pool_matches_serial(two_levels):
+    pooled = correction_table(load_case(SMALL), levels=("coarse", "normal"), workers=2,
+                              with_model_sensitivity=False)
+    _assert_same_points(two_levels.points, pooled.points)
+    _assert_same_tables(two_levels.table, pooled.table)
