@@ -17,7 +17,7 @@ from scipy.interpolate import LinearNDInterpolator, NearestNDInterpolator
 
 from geometry.case import Case
 from geometry.fixture import build_fixture_mesh
-from geometry.wall_distance import wall_distance
+from geometry.wall_distance import sharp_convex_edges, shear_layer_distance, wall_distance
 from solver.air import Air
 from solver.boundary import AmbientOpening, Axis, FixedFlowOutlet, Wall
 from solver.closure import LaminarClosure, MixingLengthClosure, first_cell_y_plus
@@ -64,8 +64,10 @@ class PreparedFixture:
             # nearest is a global face index; the closure wants an index into wall_faces
             position = np.full(mesh.n_faces, -1)
             position[wall_faces] = np.arange(len(wall_faces))
+            shear = shear_layer_distance(mesh, sharp_convex_edges(mesh), distance)
             closure = MixingLengthClosure(wall_faces, distance, position[nearest], np.asarray(fixture.duct_radius),
-                                          float(fixture.open_region_delta), constants or case_constants(case))
+                                          float(fixture.open_region_delta), constants or case_constants(case),
+                                          shear)
         return cls(case, fixture, air, closure, level or case.mesh.level)
 
     def problem(self, flow: float) -> FlowProblem:

@@ -62,3 +62,61 @@ def wall_distance(mesh: Mesh) -> tuple[np.ndarray, np.ndarray]:
     ends = mesh.nodes[mesh.face_nodes[faces]]
     distance, k = point_wall_distance(mesh.cell_centre, ends[:, 0], ends[:, 1])
     return distance, faces[k]
+
+
+# A wall corner counts as a sharp edge when the wall turns by at least this much there: the faces of a
+# meshed curve (bell, round nose, cone) turn by a few degrees per node, a step or plate by 90
+# [model choice, no source]. Only convex corners (the fluid wraps round the corner) shed a shear layer.
+SHARP_EDGE_TURN_DEG = 45.0
+
+
+def sharp_convex_edges(mesh: Mesh, min_turn_deg: float = SHARP_EDGE_TURN_DEG) -> tuple[np.ndarray, np.ndarray]:
+    """Sharp convex wall corners and the direction the shear layer leaves each one.
+
+    Returns (edge points (n, 2) in m, unit separation directions (n, 2)). The separation direction is the
+    tangent of the upstream face pointing into the edge; upstream is the face whose tangent into the edge
+    has the larger axial component, since every fixture draws its air toward +x (mouth to outlet).
+    """
+    faces = wall_faces(mesh)
+    nodes = mesh.face_nodes[faces]
+    # outward (out of the fluid) normal of every wall face: face normals point from the owner outward
+    normal = mesh.face_normal[faces]
+    points, directions = [], []
+    flat = nodes.ravel()
+    uniq, counts = np.unique(flat, return_counts=True)
+    cos_limit = np.cos(np.radians(min_turn_deg))
+    for node in uniq[counts == 2]:
+        k1, k2 = np.flatnonzero((nodes == node).any(axis=1))
+        corner = mesh.nodes[node]
+        other = [mesh.nodes[nodes[k][nodes[k] != node][0]] for k in (k1, k2)]
+        into = [(corner - o) / np.linalg.norm(corner - o) for o in other]   # tangent of each face into the edge
+        # the wall turns by the angle between the incoming tangent of one face and the outgoing of the other
+        if np.dot(into[0], -into[1]) > cos_limit:
+            continue
+        convex = np.dot(-into[1], normal[k1]) > 0.0   # face 2 leaves the corner out of face 1's fluid side
+        if not convex:
+            continue
+        up = 0 if into[0][0] >= into[1][0] else 1
+        points.append(corner)
+        directions.append(into[up])
+    return np.array(points, float).reshape(-1, 2), np.array(directions, float).reshape(-1, 2)
+
+
+def shear_layer_distance(mesh: Mesh, edges: tuple[np.ndarray, np.ndarray], distance: np.ndarray) -> np.ndarray:
+    """Per cell: distance (m) from the sharp convex edge that is the cell's nearest wall point; inf elsewhere.
+
+    There the wall distance ``distance`` (per cell, m) measures the way to a corner, not to a wall, so a
+    wall-distance mixing length is meaningless; the cells are the fan behind the edge, where the separated
+    layer is a free mixing layer. Only the fan downstream counts: (P - E) . t >= 0 and (P - E) . x >= 0,
+    t the separation direction (the still air ahead of a flanged mouth lies in its lip's fan too).
+    """
+    points, directions = edges
+    out = np.full(mesh.n_cells, np.inf)
+    # the nearest wall point is the edge itself when the edge is as near as the nearest wall face
+    tolerance = 1e-9 * (1.0 + np.abs(mesh.cell_centre).max())
+    for e, t in zip(points, directions):
+        rel = mesh.cell_centre - e
+        s = np.hypot(rel[:, 0], rel[:, 1])
+        fan = (rel @ t >= 0.0) & (rel[:, 0] >= 0.0) & (s <= distance + tolerance)
+        out = np.where(fan, np.minimum(out, s), out)
+    return out

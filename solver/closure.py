@@ -6,8 +6,10 @@ A closure turns the current velocity gradients into the effective viscosity mu_e
     |S|^2 = 2 [(du/dx)^2 + (dv/dr)^2 + (v/r)^2] + (du/dr + dv/dx)^2   (hoop strain v/r included),
 l from :func:`solver.mixing_length.mixing_length_kernel` (Nikuradse in ducts, Escudier cap in open
 regions, van Driest damping), y the exact distance to the nearest wall face and y+ = y u*/nu with
-u* = max(u_tau of that face, sqrt(nu |S|)) (tau_w = mu |u_t| / dn of its wall cell). nu_t is
-under-relaxed between outer iterations.
+u* = max(u_tau of that face, sqrt(nu |S|)) (tau_w = mu |u_t| / dn of its wall cell); in the fan behind a
+sharp convex edge (cells whose nearest wall point is the edge) l is capped by the free mixing layer's
+alpha delta' s D(y+), s the distance from the edge (see solver.mixing_length). nu_t is under-relaxed
+between outer iterations.
 Assumptions: equilibrium (no transport of turbulence), smooth walls resolved to y+ ~ 1, no wall functions.
 The floor sqrt(nu |S|) on the damping scale is our model choice for separated flow, where the wall shear
 that van Driest's damping was calibrated on vanishes (it is inactive in attached pipe flow, where the
@@ -20,7 +22,8 @@ from dataclasses import dataclass, field
 import numpy as np
 
 from .jit import jit
-from .mixing_length import MixingLengthConstants, kernel_arguments, mixing_length_kernel
+from .mixing_length import (MixingLengthConstants, kernel_arguments, mixing_length_kernel,
+                            van_driest_damping_kernel)
 
 
 @jit
@@ -36,8 +39,8 @@ def wall_friction_velocity(owner, wall_faces, normal, dn, u, v, nu, out):
 
 @jit
 def mixing_length_viscosity(grad_u, grad_v, v, radius, wall_distance, nearest_wall, u_tau, duct_radius,
-                            open_delta, nu, kappa, a_plus, c0, c2, c4, lam, out):
-    """nu_t = l^2 |S| per cell (m^2/s)."""
+                            open_delta, shear_distance, shear_slope, nu, kappa, a_plus, c0, c2, c4, lam, out):
+    """nu_t = l^2 |S| per cell (m^2/s); l <= shear_slope * shear_distance * D(y+) behind a sharp edge."""
     for c in range(len(v)):
         hoop = v[c] / radius[c]
         s2 = (2.0 * (grad_u[c, 0] ** 2 + grad_v[c, 1] ** 2 + hoop * hoop)
@@ -48,8 +51,10 @@ def mixing_length_viscosity(grad_u, grad_v, v, radius, wall_distance, nearest_wa
         # sqrt(nu |S|). Near an attached wall nu |S| <= u_tau^2, so this changes nothing there; over a
         # separated region (wall shear -> 0) it keeps the free shear layer from being damped to laminar.
         u_star = max(u_tau[nearest_wall[c]], np.sqrt(nu * strain))
-        length = mixing_length_kernel(y, y * u_star / nu, duct_radius[c], open_delta, kappa, a_plus,
-                                      c0, c2, c4, lam)
+        y_plus = y * u_star / nu
+        length = mixing_length_kernel(y, y_plus, duct_radius[c], open_delta, kappa, a_plus, c0, c2, c4, lam)
+        if shear_slope > 0.0:
+            length = min(length, shear_slope * shear_distance[c] * van_driest_damping_kernel(y_plus, a_plus))
         out[c] = length * length * strain
 
 
@@ -69,7 +74,8 @@ class MixingLengthClosure:
 
     ``wall_faces``: global indices of all wall faces; ``wall_distance`` and ``nearest_wall`` (an index into
     ``wall_faces``) per cell; ``duct_radius`` per cell (<= 0 in open regions); ``open_delta`` the length
-    scale of the Escudier cap in open regions (m).
+    scale of the Escudier cap in open regions (m); ``shear_distance`` per cell the distance (m) from the
+    sharp convex edge that is its nearest wall point, downstream only (inf elsewhere; None: no cap).
     """
 
     wall_faces: np.ndarray
@@ -78,6 +84,7 @@ class MixingLengthClosure:
     duct_radius: np.ndarray
     open_delta: float
     constants: MixingLengthConstants = field(default_factory=MixingLengthConstants)
+    shear_distance: np.ndarray | None = None
     kind = "mixing-length"
 
     def effective_viscosity(self, problem, state, gradients):
@@ -86,8 +93,11 @@ class MixingLengthClosure:
         u_tau = np.empty(len(self.wall_faces))
         wall_friction_velocity(mesh.owner, self.wall_faces, mesh.face_normal, geo.dn, state.u, state.v, nu, u_tau)
         nu_t = np.empty(mesh.n_cells)
+        c = self.constants
+        shear = self.shear_distance if self.shear_distance is not None else np.full(mesh.n_cells, np.inf)
+        slope = c.shear_layer_alpha * c.shear_layer_spread if self.shear_distance is not None else 0.0
         mixing_length_viscosity(gradients[0], gradients[1], state.v, mesh.cell_centre[:, 1], self.wall_distance,
-                                self.nearest_wall, u_tau, self.duct_radius, self.open_delta, nu,
+                                self.nearest_wall, u_tau, self.duct_radius, self.open_delta, shear, slope, nu,
                                 *kernel_arguments(self.constants), nu_t)
         mu_t_old = np.maximum(state.mu_eff - problem.viscosity, 0.0)
         alpha = self.constants.nu_t_relaxation

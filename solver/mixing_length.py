@@ -15,6 +15,12 @@ Assumptions written beside the model:
   duct radius in a reducer or box is a model choice (NUMERICS.md), not a calibration.
 - In open regions there is no radius; the cap λδ needs a shear-layer thickness δ chosen by the
   caller. Any choice is a model choice and feeds the model uncertainty (`published_ranges`).
+- Behind a sharp convex edge (a step's lip, an orifice plate's back edge) the cells whose nearest wall
+  point is the edge itself see y = distance to a corner, not to a wall; there the separated layer is a
+  free mixing layer and l is also capped by α δ' s D(y⁺), s the distance from the edge
+  (``shear_layer_alpha``, ``shear_layer_spread``; Wilcox 2006 [from memory]). Which cells those are is
+  geometry (:func:`geometry.wall_distance.shear_layer_distance`). Beyond that fan the wall-distance
+  length applies again, so l jumps at the fan's edge: a model choice, its effect is model uncertainty.
 - Near the wall f_N'(0) = 0.16 + 0.24 = 0.40, so inside ducts the effective von Kármán constant is
   0.40 whatever ``kappa`` says; ``kappa`` only acts in open regions.
 
@@ -48,6 +54,12 @@ class MixingLengthConstants:
     nikuradse_c4: float = 0.06
     # Escudier (1966) outer cap l = λδ, λ = 0.09 (Launder & Spalding 1972) [from memory].
     escudier_lambda: float = 0.09
+    # Free shear layer behind a sharp convex edge: l <= alpha delta(s), delta = delta' s at distance s
+    # from the edge. alpha = 0.071 (plane mixing layer) and delta' = 0.115 (measured mixing-layer spreading
+    # rate, delta between the points where ((U - U2)/(U1 - U2))^2 = 0.1 and 0.9), both Wilcox 2006,
+    # Turbulence Modeling for CFD, 3rd ed., ch. 3-4 [from memory]. 0 switches the cap off.
+    shear_layer_alpha: float = 0.071
+    shear_layer_spread: float = 0.115
     # Under-relaxation of ν_t between outer iterations: mixing-length closures oscillate with the
     # velocity field; 0.5 is at the cautious end of the usual 0.5–0.8 [common practice, no source].
     nu_t_relaxation: float = 0.5
@@ -84,7 +96,7 @@ class MixingLengthConstants:
 _VALID_RANGES = (
     ("kappa", 0.2, 0.6), ("a_plus", 1.0, 100.0), ("nikuradse_c0", 0.01, 0.5),
     ("nikuradse_c2", 0.0, 0.5), ("nikuradse_c4", 0.0, 0.5), ("escudier_lambda", 0.01, 0.5),
-    ("nu_t_relaxation", 0.01, 1.0),
+    ("nu_t_relaxation", 0.01, 1.0), ("shear_layer_alpha", 0.0, 0.5), ("shear_layer_spread", 0.0, 1.0),
 )
 
 _PUBLISHED_RANGES = {

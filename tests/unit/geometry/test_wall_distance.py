@@ -53,3 +53,38 @@ def test_fixture_wall_distance_positive_and_below_duct_radius():
     assert np.all(d[inside] <= fm.duct_radius[inside] + 1e-12)
     names = [p for p in fm.mesh.patches if p.startswith("wall")]
     assert set(names) >= {"wall", "wall-hub", "wall-flange"}
+
+
+def _fixture(segments, ambient):
+    from geometry.case import parse_case
+    from geometry.fixture import build_fixture_mesh
+    data = {"title": "edges", "ambient": ambient, "segment": segments,
+            "operating": {"flows_Ls": [10.0]}, "mesh": {"level": "coarse"}}
+    return build_fixture_mesh(parse_case(data, ".")).mesh
+
+
+def test_sharp_convex_edges_of_an_expansion_and_a_bell():
+    """A flanged mouth and a step up have two convex 90-degree corners: the mouth lip, where the layer
+    leaves the plate radially inward, and the step lip, where it leaves the bore axially; the step's
+    inner corner is concave and a bell mouth has no sharp corner (elementary geometry). The shear-layer
+    fan is the set of downstream cells whose nearest wall point is the edge."""
+    from geometry.wall_distance import sharp_convex_edges, shear_layer_distance
+    head = {"kind": "head", "diameter_mm": 50, "length_mm": 100, "rotor_at_mm": 50}
+    mesh = _fixture([head, {"kind": "tube", "length_mm": 200}, {"kind": "step", "to_diameter_mm": 100},
+                     {"kind": "tube", "length_mm": 300}], {"mouth": "flanged"})
+    points, directions = sharp_convex_edges(mesh)
+    order = np.argsort(points[:, 0])
+    assert np.allclose(points[order], [[0.0, 0.025], [0.3, 0.025]], atol=1e-12)
+    assert np.allclose(directions[order], [[0.0, -1.0], [1.0, 0.0]], atol=1e-12)
+    distance, _ = wall_distance(mesh)
+    s = shear_layer_distance(mesh, (points, directions), distance)
+    c = mesh.cell_centre
+    to_lip = np.hypot(c[:, 0] - 0.3, c[:, 1] - 0.025)
+    # behind the step, inside the lip radius, the lip is the nearest wall point until the wide wall
+    # (r = 0.05) or the step face is nearer (elementary geometry)
+    fan = (c[:, 0] > 0.3) & (c[:, 1] < 0.025) & (to_lip < 0.05 - c[:, 1])
+    assert np.allclose(s[fan], to_lip[fan])
+    assert np.all(np.isinf(s[~fan & (c[:, 0] > 0.3)]))
+    assert np.all(np.isinf(s[c[:, 0] < 0.3]))   # the mouth lip's fan is the still air ahead of the mouth
+    bell = _fixture([head, {"kind": "tube", "length_mm": 200}], {"mouth": "bell", "bell_radius_mm": 7.5})
+    assert len(sharp_convex_edges(bell)[0]) == 0
