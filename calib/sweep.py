@@ -438,7 +438,7 @@ def _sensitivity_jobs(plan: SweepPlan, reference: SolvedPoint) -> list[tuple[Cha
 
 
 def _follow_ups(plan: SweepPlan, role, outcome: ChainResult, result: SweepResult):
-    """Jobs that become ready when a head or tail chain finishes."""
+    """Jobs that become ready when a lead, head or tail chain finishes."""
     jobs = []
     if role == "lead":
         lead = outcome.solved[-1] if outcome.solved else None  # diverged: both start from rest

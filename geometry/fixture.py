@@ -190,6 +190,12 @@ def _jump(left: _Column, right: _Column) -> tuple[float, float]:
     return float(left.wall(x)), float(right.wall(x))
 
 
+def _step_sign(left: _Column, right: _Column) -> int:
+    """+1 where the bore steps out from ``left`` to ``right`` at their joint, -1 where it steps in, else 0."""
+    r_l, r_r = _jump(left, right)
+    return 1 if r_r > r_l * (1 + 1e-9) else -1 if r_l > r_r * (1 + 1e-9) else 0
+
+
 def _radial_counts(cols: list[_Column], z: Sizing, hub: HubStations | None) -> None:
     """Radial cells per column: a sudden expansion adds the cells of its face, a contraction drops them;
     a blunt hub face takes its cells from the stations ahead of it and gives them back behind the tail,
@@ -217,10 +223,8 @@ def _raise_upstream(cols: list[_Column], k: int, extra: int) -> None:
     """Add ``extra`` radial cells to column k and to those ahead of it up to an expansion's wide side."""
     for j in range(k, -1, -1):
         cols[j].n += extra
-        if j > 0:
-            r_l, r_r = _jump(cols[j - 1], cols[j])
-            if r_r > r_l * (1 + 1e-9):
-                return
+        if j > 0 and _step_sign(cols[j - 1], cols[j]) > 0:
+            return
 
 
 # ---------------------------------------------------------------- stations and duct blocks
@@ -262,8 +266,8 @@ def _step_relaxation(cols: list[_Column], k: int) -> tuple[float, float]:
     """Lengths (m) over which column k's west/east station relaxes to its own: nonzero where the column is
     the wide side of a sudden area change (its station carries the step face's cells)."""
     col = cols[k]
-    wide_west = k > 0 and _jump(cols[k - 1], col)[1] > _jump(cols[k - 1], col)[0] * (1 + 1e-9)
-    wide_east = k + 1 < len(cols) and _jump(col, cols[k + 1])[0] > _jump(col, cols[k + 1])[1] * (1 + 1e-9)
+    wide_west = k > 0 and _step_sign(cols[k - 1], col) > 0
+    wide_east = k + 1 < len(cols) and _step_sign(col, cols[k + 1]) < 0
     lw = STEP_RELAX_RADII * float(col.wall(col.x0)) if wide_west else 0.0
     le = STEP_RELAX_RADII * float(col.wall(col.x1)) if wide_east else 0.0
     fit = min(1.0, (col.x1 - col.x0) / (lw + le)) if lw + le > 0 else 1.0

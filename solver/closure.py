@@ -94,7 +94,7 @@ class MixingLengthClosure:
         wall_friction_velocity(mesh.owner, self.wall_faces, mesh.face_normal, geo.dn, state.u, state.v, nu, u_tau)
         nu_t = np.empty(mesh.n_cells)
         c = self.constants
-        shear = self.shear_distance if self.shear_distance is not None else np.full(mesh.n_cells, np.inf)
+        shear = self.shear_distance if self.shear_distance is not None else self.wall_distance  # unused: slope 0
         slope = c.shear_layer_alpha * c.shear_layer_spread if self.shear_distance is not None else 0.0
         mixing_length_viscosity(gradients[0], gradients[1], state.v, mesh.cell_centre[:, 1], self.wall_distance,
                                 self.nearest_wall, u_tau, self.duct_radius, self.open_delta, shear, slope, nu,
