@@ -58,6 +58,11 @@ class SolverSettings:
     # iterates are mixed from iteration ``anderson_start`` on; depth 0 switches it off.
     anderson_depth: int = 5
     anderson_start: int = 100
+    # The pressure-correction operator is built from the SIMPLEC coefficients d of every
+    # ``pressure_operator_lag``-th iteration and held in between, so its factorisation solves it exactly
+    # for that many iterations. The converged answer does not depend on it: at the fixed point the
+    # correction is zero whatever operator produced it. 1 rebuilds it every iteration.
+    pressure_operator_lag: int = 10
 
 
 @dataclass(frozen=True, eq=False)
@@ -206,6 +211,7 @@ class _Iteration:
         self.momentum_solver, self.pressure_solver = linear_solvers(settings.linear_solver, problem.pattern)
         self.psi = (np.zeros(self.n_int), np.zeros(self.n_int))
         self.limiter_frozen = False
+        self.d_pressure, self.pressure_age = None, 0  # the held SIMPLEC d of the pressure operator
         self.update_boundaries(first=True)
 
     def packed_state(self) -> np.ndarray:
@@ -325,6 +331,12 @@ class _Iteration:
         # Scale: the flow through the boundary; a closed domain falls back to its largest face flux.
         throughput = max(np.abs(st.mass_flux[self.n_int:]).sum(), np.abs(st.mass_flux[:self.n_int]).max(), 1e-300)
         residual = np.abs(imbalance).sum() / throughput
+        if self.d_pressure is None or self.pressure_age >= s.pressure_operator_lag:
+            self.d_pressure, self.pressure_age = d_simplec.copy(), 0
+            if s.pressure_operator_lag > 1:  # held that long, it has drifted too far for the old LU
+                self.pressure_solver.operator_changed()
+        self.pressure_age += 1
+        d_simplec = self.d_pressure  # matrix, flux and velocity corrections all use the held d
         diag = np.empty(m.n_cells)
         off = np.empty((self.n_int, 2))
         coef = np.empty(m.n_faces)

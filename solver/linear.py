@@ -121,6 +121,9 @@ class DirectSolver:
         self.stats.factorisations += 1
         return solve_direct(matrix, rhs)
 
+    def operator_changed(self):
+        """Nothing is kept between calls."""
+
 
 class MomentumSolver:
     """ILU(0)-preconditioned BiCGSTAB (van der Vorst 1992) for the non-symmetric momentum systems.
@@ -208,6 +211,8 @@ class PressureSolver:
     drift slowly. Factorised in symmetric mode (diagonal pivots, symmetric ordering), it is an SPD operator,
     as CG requires. When CG does not reach ``tolerance`` ||b|| within ``refresh_iterations`` iterations, the
     current matrix is factorised and solved directly, and that factorisation preconditions the next calls.
+    The outer iteration holds its operator for several iterations (``SolverSettings.pressure_operator_lag``)
+    and calls :meth:`operator_changed` when it rebuilds it; in between CG converges in one iteration.
     """
 
     def __init__(self, pattern: CellMatrixPattern, tolerance: float = 1e-3, refresh_iterations: int = 10):
@@ -229,6 +234,10 @@ class PressureSolver:
         self.lu = spla.splu(matrix.tocsc(), permc_spec="MMD_AT_PLUS_A", diag_pivot_thresh=0.0,
                             options={"SymmetricMode": True})
         return self.lu.solve(rhs)
+
+    def operator_changed(self):
+        """The caller has rebuilt the operator: factorise the next matrix instead of trying the old LU on it."""
+        self.lu = None
 
 
 def _pcg(pt, data, precondition, b, tolerance, max_iterations):

@@ -74,3 +74,15 @@ def test_answer_independent_of_anderson_acceleration(reference_run):
     assert plain.converged
     assert np.abs(sol.state.u - plain.state.u).max() <= 1e-5 * np.abs(sol.state.u).max()
     assert np.abs(sol.state.p - plain.state.p).max() <= 1e-5 * np.abs(sol.state.p).max()
+
+
+@pytest.mark.parametrize("lag", [1, 25])
+def test_answer_independent_of_pressure_operator_lag(reference_run, lag):
+    """Holding the pressure-correction operator changes the path, not the fixed point (the reference run
+    holds it for the default 10 iterations)."""
+    mesh, sol = reference_run
+    other = solve(sol.problem, SolverSettings(max_iterations=1500, velocity_relaxation=0.8,
+                                              pressure_operator_lag=lag))
+    assert other.converged
+    assert np.abs(sol.state.u - other.state.u).max() <= 1e-5 * np.abs(sol.state.u).max()
+    assert np.abs(sol.state.p - other.state.p).max() <= 1e-5 * np.abs(sol.state.p).max()
