@@ -8,6 +8,12 @@ Sources (through the `fluids` package, Bell 2016-2024, fittings module):
 
 K = (energy-flux-averaged total-pressure loss, extrapolated to the inlet plane from the developed region,
 so the developed friction of the tube is excluded) / (1/2 rho U^2), at Re_D = 1e5 (D = 50 mm, air).
+
+The other usual definition, static pressure and mean velocity head (K_s = -p_static / (1/2 rho U^2) - 1,
+the kinetic-energy coefficient taken as 1; common practice, no source), differs by alpha - 1, and the
+computed developed profile has alpha = 1.064. Measured at level normal: flanged K = 0.474, K_s = 0.539;
+bell K = 0.132, K_s = 0.196. No one definition puts both inside their handbook spreads (flanged 0.50-0.57,
+bell <= 0.149), so the miss is the model's, not the definition's; the energy form is kept.
 """
 import fluids
 import numpy as np
