@@ -14,7 +14,8 @@ The job graph of one case (levels ordered coarse -> fine, flows q_0 < ... < q_n,
   from the lead's solution carried onto the finer mesh (:func:`calib.pipeline.transferred_state`):
   measured, demo reducer at 60 L/s, 354 fine-level iterations from the normal solution against 626
   from rest (between coarser levels it gains nothing: 478 against 446 from coarse to normal). The
-  *tail* chain q_m-1..q_0 starts from the head's last state (the same start the unsplit chain would use). With one level the head starts from rest;
+  *tail* chain q_m-1..q_0 starts from the head's last state (the same start the unsplit chain would use).
+  With one level the head starts from rest;
 * one closure-sensitivity job per published-range end of each closure constant, each started from
   the head's middle-flow state (so they run after the head, beside the tail and the coarser chains).
 
