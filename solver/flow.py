@@ -211,7 +211,7 @@ class _Iteration:
         self.momentum_solver, self.pressure_solver = linear_solvers(settings.linear_solver, problem.pattern)
         self.psi = (np.zeros(self.n_int), np.zeros(self.n_int))
         self.limiter_frozen = False
-        self.d_pressure, self.pressure_age = None, 0  # the held SIMPLEC d of the pressure operator
+        self.pressure_operator, self.pressure_age = None, 0  # held (d, matrix, face coefficients)
         self.update_boundaries(first=True)
 
     def packed_state(self) -> np.ndarray:
@@ -331,20 +331,13 @@ class _Iteration:
         # Scale: the flow through the boundary; a closed domain falls back to its largest face flux.
         throughput = max(np.abs(st.mass_flux[self.n_int:]).sum(), np.abs(st.mass_flux[:self.n_int]).max(), 1e-300)
         residual = np.abs(imbalance).sum() / throughput
-        if self.d_pressure is None or self.pressure_age >= s.pressure_operator_lag:
-            self.d_pressure, self.pressure_age = d_simplec.copy(), 0
+        if self.pressure_operator is None or self.pressure_age >= s.pressure_operator_lag:
+            self.pressure_operator, self.pressure_age = self.pressure_correction_operator(d_simplec), 0
             if s.pressure_operator_lag > 1:  # held that long, it has drifted too far for the old LU
                 self.pressure_solver.operator_changed()
         self.pressure_age += 1
-        d_simplec = self.d_pressure  # matrix, flux and velocity corrections all use the held d
-        diag = np.empty(m.n_cells)
-        off = np.empty((self.n_int, 2))
-        coef = np.empty(m.n_faces)
-        K.pressure_correction_coefficients(m.owner, m.neighbour, self.n_int, g.w, g.dn, m.face_area, rho,
-                                           d_simplec, self.is_pressure_face, diag, off, coef)
-        if not self.is_pressure_face.any():
-            diag[0] += diag.sum()  # pin the pressure level: no boundary fixes it
-        p_corr = self.pressure_solver.solve(self.pb.pattern.matrix(diag, off), -imbalance)
+        d_simplec, matrix, coef = self.pressure_operator  # matrix, flux and velocity corrections share it
+        p_corr = self.pressure_solver.solve(matrix, -imbalance)
         K.correct_flux(m.owner, m.neighbour, self.n_int, coef, p_corr, st.mass_flux)
         own_b = m.owner[self.n_int:]
         pc_face = np.where(self.is_pressure_face, 0.0, p_corr[own_b])
@@ -357,6 +350,18 @@ class _Iteration:
         self.old_velocity = st.velocity
         self.update_boundaries()
         return residual
+
+    def pressure_correction_operator(self, d_simplec):
+        """(SIMPLEC d, pressure-correction matrix, face coefficients c_f) built from ``d_simplec``."""
+        m, g = self.pb.mesh, self.pb.geometry
+        diag = np.empty(m.n_cells)
+        off = np.empty((self.n_int, 2))
+        coef = np.empty(m.n_faces)
+        K.pressure_correction_coefficients(m.owner, m.neighbour, self.n_int, g.w, g.dn, m.face_area,
+                                           self.pb.density, d_simplec, self.is_pressure_face, diag, off, coef)
+        if not self.is_pressure_face.any():
+            diag[0] += diag.sum()  # pin the pressure level: no boundary fixes it
+        return d_simplec.copy(), self.pb.pattern.matrix(diag, off), coef
 
     def pressure_face_flux(self, d_rc, old_flux):
         """Rhie-Chow flux through faces whose pressure is set (outlets, openings)."""
