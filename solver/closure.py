@@ -4,12 +4,19 @@ A closure turns the current velocity gradients into the effective viscosity mu_e
 
 ``mixing-length``: nu_t = l^2 |S| with
     |S|^2 = 2 [(du/dx)^2 + (dv/dr)^2 + (v/r)^2] + (du/dr + dv/dx)^2   (hoop strain v/r included),
-l from :func:`solver.mixing_length.mixing_length_kernel` (Nikuradse in ducts, Escudier cap in open
-regions, van Driest damping), y the exact distance to the nearest wall face and y+ = y u*/nu with
+l from :func:`solver.mixing_length.mixing_length_kernel` (Nikuradse in ducts, Escudier cap in a fan
+in open air, van Driest damping), y the exact distance to the nearest wall face and y+ = y u*/nu with
 u* = max(u_tau of that face, sqrt(nu |S|)) (tau_w = mu |u_t| / dn of its wall cell); in the fan behind a
 sharp convex edge (cells whose nearest wall point is the edge) l is capped by the free mixing layer's
 alpha delta' s D(y+), s the distance from the edge (see solver.mixing_length). nu_t is under-relaxed
 between outer iterations.
+The still air ahead of the mouth (cells with no duct radius) is laminar, nu_t = 0, except in a sharp
+edge's fan: that air is irrotational, a sink flow accelerating toward the mouth with an acceleration
+parameter K = nu / U^2 dU/ds far above the ~3e-6 past which boundary layers relaminarise (Jones &
+Launder 1972, Int. J. Heat Mass Transfer 15:301 [from memory]); a strain-rate mixing length there turned
+irrotational strain into eddy viscosity and a spurious loss (bell mouth r/D = 0.15: K = 0.132 with it,
+0.074 without, handbooks 0.04-0.15; tests/validation/test_idelchik_entrance_loss.py). The same anomaly
+remains inside ducts wherever the core is strained irrotationally (a duct's inlet, a hub nose).
 Assumptions: equilibrium (no transport of turbulence), smooth walls resolved to y+ ~ 1, no wall functions.
 The floor sqrt(nu |S|) on the damping scale is our model choice for separated flow, where the wall shear
 that van Driest's damping was calibrated on vanishes (it is inactive in attached pipe flow, where the
@@ -40,8 +47,12 @@ def wall_friction_velocity(owner, wall_faces, normal, dn, u, v, nu, out):
 @jit
 def mixing_length_viscosity(grad_u, grad_v, v, radius, wall_distance, nearest_wall, u_tau, duct_radius,
                             open_delta, shear_distance, shear_slope, nu, kappa, a_plus, c0, c2, c4, lam, out):
-    """nu_t = l^2 |S| per cell (m^2/s); l <= shear_slope * shear_distance * D(y+) behind a sharp edge."""
+    """nu_t = l^2 |S| per cell (m^2/s); l <= shear_slope * shear_distance * D(y+) behind a sharp edge;
+    0 in the still air (duct_radius <= 0) outside every sharp edge's fan (shear_distance = inf)."""
     for c in range(len(v)):
+        if duct_radius[c] <= 0.0 and not shear_distance[c] < np.inf:
+            out[c] = 0.0
+            continue
         hoop = v[c] / radius[c]
         s2 = (2.0 * (grad_u[c, 0] ** 2 + grad_v[c, 1] ** 2 + hoop * hoop)
               + (grad_u[c, 1] + grad_v[c, 0]) ** 2)
@@ -74,8 +85,9 @@ class MixingLengthClosure:
 
     ``wall_faces``: global indices of all wall faces; ``wall_distance`` and ``nearest_wall`` (an index into
     ``wall_faces``) per cell; ``duct_radius`` per cell (<= 0 in open regions); ``open_delta`` the length
-    scale of the Escudier cap in open regions (m); ``shear_distance`` per cell the distance (m) from the
-    sharp convex edge that is its nearest wall point, downstream only (inf elsewhere; None: no cap).
+    scale of the Escudier cap in a sharp edge's fan in open air (m); ``shear_distance`` per cell the
+    distance (m) from the sharp convex edge that is its nearest wall point, downstream only (inf elsewhere;
+    None: no edges). Open-air cells outside every fan are laminar.
     """
 
     wall_faces: np.ndarray
@@ -94,7 +106,7 @@ class MixingLengthClosure:
         wall_friction_velocity(mesh.owner, self.wall_faces, mesh.face_normal, geo.dn, state.u, state.v, nu, u_tau)
         nu_t = np.empty(mesh.n_cells)
         c = self.constants
-        shear = self.shear_distance if self.shear_distance is not None else self.wall_distance  # unused: slope 0
+        shear = self.shear_distance if self.shear_distance is not None else np.full(mesh.n_cells, np.inf)
         slope = c.shear_layer_alpha * c.shear_layer_spread if self.shear_distance is not None else 0.0
         mixing_length_viscosity(gradients[0], gradients[1], state.v, mesh.cell_centre[:, 1], self.wall_distance,
                                 self.nearest_wall, u_tau, self.duct_radius, self.open_delta, shear, slope, nu,

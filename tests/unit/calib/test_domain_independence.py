@@ -31,4 +31,5 @@ def test_doubling_the_ambient_region_changes_little():
     data["ambient"]["length_mm"] = -2e3 * mesh.nodes[:, 0].min()
     doubled = rotor_plane_answer(data)
     for a, b in zip(base, doubled):
-        assert b == pytest.approx(a, rel=2e-3)  # measured: centre velocity 3e-5, pressure drop 2e-5
+        # measured: centre velocity 8e-5, momentum coefficient 2e-5, pressure drop 2e-5
+        assert b == pytest.approx(a, rel=2e-3)
