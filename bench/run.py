@@ -2,8 +2,9 @@
 
 Usage: python bench/run.py [--out bench/results/bench.json] [--skip-table] [case ...]
 
-Each case runs in a fresh process. Solver cases run twice there: the first includes numba compilation
-(or loading the on-disk cache), the second is the steady-state cost; their difference is the compile time.
+Each case runs in a fresh process. Solver cases run there once with numba compilation (or loading the
+on-disk cache) and then again for the steady-state cost (demo points: the fastest of STEADY_REPEATS runs);
+the difference is the compile time.
 Targets (2-core machine): one demo point at level normal <= 10 s; a full correction table (6 flows x 3
 levels) <= 120 s; wall time growing no faster than N^1.25 from coarse to fine; peak memory at fine < 2 GB.
 """
@@ -23,6 +24,10 @@ HERE = Path(__file__).resolve().parent
 ROOT = HERE.parent
 DEMO = ROOT / "cases" / "reducer_hub.toml"
 TARGETS = {"demo-point-normal": 10.0, "demo-table-6x3": 120.0}
+# A demo point's steady-state cost is the fastest of this many repeats: on a shared 2-core machine a single
+# run of the coarse point measured 0.99 s once and 1.58 s another time, enough to move the fitted exponent
+# from 1.54 to 1.27; the minimum is the least disturbed estimate (common practice, as in timeit).
+STEADY_REPEATS = 3
 
 
 def _rss_mb() -> float:
@@ -48,13 +53,15 @@ def _demo_point(level: str) -> dict:
     case = load_case(DEMO)
     flow = case.operating.flows[len(case.operating.flows) // 2]
     timings = []
-    for _ in range(2):
+    for _ in range(1 + STEADY_REPEATS):
         start = time.perf_counter()
         prepared = PreparedFixture.build(case, level=level)
         point, _ = solve_point(prepared, flow)
         timings.append(time.perf_counter() - start)
+    steady = min(timings[1:])
     return {"cells": point.cells, "iterations": point.iterations, "converged": point.converged,
-            "wall_s": timings[1], "compile_s": max(timings[0] - timings[1], 0.0), "flow_Ls": flow * 1e3,
+            "wall_s": steady, "wall_s_repeats": timings[1:], "compile_s": max(timings[0] - steady, 0.0),
+            "flow_Ls": flow * 1e3,
             "rotor_plane_mean_ms": point.profile.area_mean, "rotor_plane_centre_ms": point.profile.centre_velocity,
             # the mean is fixed by the flux; the instrument's reading is what an iteration change could move
             "indicated_ms": case_instrument(case, prepared).indicated_velocity(point.profile)}
