@@ -35,7 +35,8 @@ Model choices (documented here, used by the solver):
 * thin-wall mouth: the first segment protrudes ``PROTRUSION_DIAMETERS`` mouth diameters (or up to the
   first widening of the bore) from a back plate ``wall-back``; a wall, not an opening, so that all
   still air enters through the ``ambient`` faces.
-* ``open_region_delta`` = the mouth radius: the length scale of the Escudier cap in the open region.
+* ``duct_radius`` is -1 in the still air, a bell's flare included (the closure keeps that air laminar);
+  ``open_region_delta`` = the mouth radius: the Escudier length scale in a sharp edge's fan there.
 * defaults L_amb = R_amb = ``AMBIENT_DIAMETERS`` x the largest mouth or head diameter; cells grow
   geometrically outward so the far field costs few cells.
 """
@@ -391,19 +392,18 @@ def _ambient_blocks(case, z: Sizing, mouth: np.ndarray, e: _Extent, shaped_mouth
 
     inner = e.outer if bell else r0
     north = row(inner)
-    tag_core = None
     if bell:
         rb = amb.bell_radius
         flare = (lambda f: np.column_stack([-rb * np.cos(0.5 * np.pi * f), e.outer - rb * np.sin(0.5 * np.pi * f)]))
         arc = z.piece(flare, 0.5 * np.pi * rb, dm, 0.5 * z.joint(r0), z.axial_cap(r0))
         north = np.vstack([north, arc[1:]])
-        tag_core = (lambda xc: np.where(xc > -rb, e.outer - np.sqrt(np.maximum(rb * rb - xc * xc, 0.0)), -1.0))
     south = np.column_stack([north[:, 0], np.zeros(len(north))])
     west = line((e.x_west, 0.0), (e.x_west, inner), np.linspace(0.0, 1.0, n0 + 1))
     if shaped_mouth:  # far-side sizes: geometric mean of uniform and the mouth's, so a face's thin cells relax
         size = np.sqrt(np.diff(fractions(mouth)) / n0)
         west = line((e.x_west, 0.0), (e.x_west, inner), np.concatenate([[0.0], np.cumsum(size)]) / size.sum())
-    blocks = [("ambient-core", explicit_block(south, north, west, mouth), tag_core)]
+    # no duct radius, the flare included: its air is the mouth's accelerating sink flow (see solver.closure)
+    blocks = [("ambient-core", explicit_block(south, north, west, mouth), None)]
     if amb.mouth == "thin-wall":
         t, n_l = amb.wall_thickness, max(4, int(round(4 * z.scale)))
         c = z.corner(r0)

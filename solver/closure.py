@@ -15,8 +15,9 @@ edge's fan: that air is irrotational, a sink flow accelerating toward the mouth 
 parameter K = nu / U^2 dU/ds far above the ~3e-6 past which boundary layers relaminarise (Jones &
 Launder 1972, Int. J. Heat Mass Transfer 15:301 [from memory]); a strain-rate mixing length there turned
 irrotational strain into eddy viscosity and a spurious loss (bell mouth r/D = 0.15: K = 0.132 with it,
-0.074 without, handbooks 0.04-0.15; tests/validation/test_idelchik_entrance_loss.py). The same anomaly
-remains inside ducts wherever the core is strained irrotationally (a duct's inlet, a hub nose).
+0.053 without, its flare counted as still air; handbooks 0.007-0.15; tests/validation/
+test_idelchik_entrance_loss.py). The same anomaly remains inside ducts wherever the core is strained
+irrotationally (a duct's inlet, a cone, a hub nose).
 Assumptions: equilibrium (no transport of turbulence), smooth walls resolved to y+ ~ 1, no wall functions.
 The floor sqrt(nu |S|) on the damping scale is our model choice for separated flow, where the wall shear
 that van Driest's damping was calibrated on vanishes (it is inactive in attached pipe flow, where the
