@@ -44,7 +44,7 @@ class MixingLengthConstants:
     """Constants of the mixing-length closure, one source of truth for the solver and pipe1d."""
 
     # von Kármán constant; 0.41 is common RANS practice [from memory], Bailey et al. 2014
-    # (JFM 749:79) best estimate 0.40 ± 0.02 [verified]. Acts in open regions only (see module doc).
+    # (JFM 749:79) best estimate 0.40 ± 0.02 [verified]. Acts in open air only, in a sharp edge's fan (module doc).
     kappa: float = 0.41
     # van Driest damping constant A⁺ = 26 (van Driest 1956, J. Aeronaut. Sci. 23:1007) [from memory;
     # universally quoted].

@@ -61,7 +61,7 @@ def entrance_k(ambient: dict, level="normal"):
 def test_flanged_sharp_inlet_within_handbook_spread():
     """K inside the spread of the handbook methods (0.50-0.57). MISSES: measured 0.395 at level normal
     (0.390 fine), -21 % against Idelchik's 0.5. Confining the lip's shear layer to the free-mixing-layer
-    length over the first 0.2 / 1 / 4 D of the head (coarse) gave 0.409 / 0.394 / 0.371, so the
+    length over the first 0.2 / 1 / 4 D of the head (coarse) gave 0.410 / 0.398 / 0.372, so the
     shear layer's mixing length does not carry the miss. (Borda-Carnot's (1/Cc - 1)^2 gives 0.395 for a
     vena contracta Cc = 0.614, as if the loss were the jet's re-expansion alone.)"""
     k = entrance_k({"mouth": "flanged"})

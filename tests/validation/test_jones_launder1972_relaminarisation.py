@@ -9,9 +9,9 @@ computed flow of the example cases at their largest flow (K scales as 1/Q, so th
 worst case) and of a bell mouth, whose flare counts as still air.
 
 Measured (coarse): K < 3e-6 in a volume fraction of 2.0e-5 (demo reducer, 60 L/s), 2.1e-5 (tube-fed
-head, 40 L/s) and 1.3e-4 (bell r/D = 0.15, 58.9 L/s) of the moving still air, for the two flanged
-mouths all of it in the wall cells of the plate just ahead of the lip, where the flow slows into the
-corner; median K 2.2e-4, 6.2e-4 and 1.3e-4, 40-200 times the threshold.
+head, 40 L/s) and 1.3e-4 (bell r/D = 0.15, 58.9 L/s) of the moving still air; for the first two all
+of it within 1 mm ahead of the lip (the demo's flanged plate, the tube-fed head's thin-wall front face),
+where the flow slows toward the wall; median K 2.2e-4, 6.2e-4 and 1.3e-4, 40-200 times the threshold.
 """
 from pathlib import Path
 
