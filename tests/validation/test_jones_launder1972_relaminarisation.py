@@ -20,7 +20,6 @@ import pytest
 
 from calib.pipeline import PreparedFixture, solve_point
 from geometry.case import load_case, parse_case
-from solver.flow import SolverSettings, _Iteration
 
 CASES = Path(__file__).resolve().parents[2] / "cases"
 THRESHOLD = 3e-6
@@ -41,7 +40,8 @@ def acceleration_parameter(case_file: str):
     point, sol = solve_point(prepared, flow, warn_wall=False)
     assert point.converged
     st, problem = sol.state, sol.problem
-    grad_u, grad_v = _Iteration(problem, SolverSettings(), st).gradients()
+    gradients = sol.gradients()
+    grad_u, grad_v = gradients["u"], gradients["v"]
     speed = np.maximum(np.hypot(st.u, st.v), 1e-300)
     # dU/ds along the streamline: (u . grad) |U| with grad |U| = (u grad u + v grad v) / |U|
     grad_speed = (st.u[:, None] * grad_u + st.v[:, None] * grad_v) / speed[:, None]

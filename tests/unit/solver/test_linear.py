@@ -133,7 +133,7 @@ def test_pressure_solver_factorises_again_after_operator_changed(mesh, pattern, 
     A = pressure_like(mesh, pattern, face_conductance(mesh, rng))
     b = rng.normal(size=pattern.n)
     solver.solve(A, b)
-    x = solver.solve(A, b)  # the same operator: its own LU preconditions it exactly
+    solver.solve(A, b)  # the same operator: its own LU preconditions it exactly
     assert solver.stats.factorisations == 1 and solver.stats.iterations == 1
     solver.operator_changed()
     other = pressure_like(mesh, pattern, face_conductance(mesh, rng))
