@@ -102,14 +102,21 @@ def run_one(name: str) -> dict:
     return row
 
 
-def scaling_exponent(rows: list[dict]) -> float | None:
-    """Fitted p in wall ~ N^p over the demo point at coarse, normal and fine."""
-    pts = [(r["cells"], r["wall_s"]) for r in rows if r["case"].startswith("demo-point-")]
+def scaling_exponent(rows: list[dict], value=lambda r: r["wall_s"]) -> float | None:
+    """Fitted p in value ~ N^p over the demo point at coarse, normal and fine (value: wall seconds by default)."""
+    pts = [(r["cells"], value(r)) for r in rows if r["case"].startswith("demo-point-")]
     if len(pts) < 2:
         return None
     import numpy as np
     n, t = np.log([p[0] for p in pts]), np.log([p[1] for p in pts])
     return float(np.polyfit(n, t, 1)[0])
+
+
+def growth_parts(rows: list[dict]) -> dict[str, float | None]:
+    """The wall-time exponent split into its two factors: outer iterations ~ N^a, seconds per iteration ~ N^b
+    (a + b is the wall exponent), so a miss says whether the iteration count or the iteration's cost grows."""
+    return {"iterations": scaling_exponent(rows, lambda r: r["iterations"]),
+            "per_iteration": scaling_exponent(rows, lambda r: r["wall_s"] / r["iterations"])}
 
 
 def main(argv=None):
@@ -139,11 +146,14 @@ def main(argv=None):
         print(f"{name:<22} {r['cells']:>7} {r['iterations']:>6} {r['wall_s']:>8.2f} {r['compile_s']:>9.2f} "
               f"{r['peak_rss_MB']:>8.0f}  {verdict}", flush=True)
     exponent = scaling_exponent(rows)
+    parts = growth_parts(rows) if exponent is not None else {}
     if exponent is not None:
-        print(f"cost growth: wall ~ N^{exponent:.2f} (target <= 1.25: {'met' if exponent <= 1.25 else 'MISSED'})")
+        print(f"cost growth: wall ~ N^{exponent:.2f} (target <= 1.25: {'met' if exponent <= 1.25 else 'MISSED'}): "
+              f"iterations ~ N^{parts['iterations']:.2f}, seconds per iteration ~ N^{parts['per_iteration']:.2f}")
     Path(args.out).parent.mkdir(parents=True, exist_ok=True)
     tmp = Path(args.out).with_suffix(".tmp")
-    tmp.write_text(json.dumps({"machine_cores": os.cpu_count(), "scaling_exponent": exponent, "cases": rows},
+    tmp.write_text(json.dumps({"machine_cores": os.cpu_count(), "scaling_exponent": exponent,
+                                          "scaling_exponent_parts": parts, "cases": rows},
                               indent=2))
     os.replace(tmp, args.out)
     print(f"written {args.out}")
