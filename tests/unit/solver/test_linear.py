@@ -8,8 +8,8 @@ import scipy.sparse as sp
 import scipy.sparse.linalg as spla
 
 from geometry.pipes import straight_pipe
-from solver.linear import (LINEAR_SOLVERS, CellMatrixPattern, MomentumSolver, PressureSolver, ilu0_factor,
-                           linear_solvers)
+from solver.linear import (LINEAR_SOLVERS, CellMatrixPattern, MomentumSolver, OrderedFactorisation, PressureSolver,
+                           ilu0_factor, linear_solvers)
 
 
 @pytest.fixture(scope="module")
@@ -165,3 +165,17 @@ def test_matrix_of_another_layout_is_refused(mesh, pattern, rng):
     A = momentum_like(mesh, pattern, rng).tocsc().tocsr()[::-1]
     with pytest.raises(ValueError, match="CellMatrixPattern.matrix"):
         MomentumSolver(pattern).solve(A, np.ones(pattern.n))
+
+
+@pytest.mark.parametrize("pinned", [False, True])
+def test_ordered_factorisation_solves_exactly(mesh, pattern, rng, pinned):
+    """The nested-dissection ordering is a permutation of the cells, and the factorisation in it solves the
+    pressure-like system to rounding (scipy's spsolve, its own ordering, as the reference)."""
+    ordering = OrderedFactorisation(pattern)
+    assert np.array_equal(np.sort(ordering.perm), np.arange(pattern.n))
+    A = pressure_like(mesh, pattern, face_conductance(mesh, rng), pinned=pinned)
+    b = rng.normal(size=pattern.n)
+    x = ordering.factorise(A.data)(b)
+    reference = spla.spsolve(A.tocsc(), b)
+    assert np.abs(x - reference).max() <= 1e-9 * np.abs(reference).max()
+    assert np.linalg.norm(A @ x - b) <= 1e-10 * np.linalg.norm(b)
