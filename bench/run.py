@@ -153,8 +153,7 @@ def main(argv=None):
     Path(args.out).parent.mkdir(parents=True, exist_ok=True)
     tmp = Path(args.out).with_suffix(".tmp")
     tmp.write_text(json.dumps({"machine_cores": os.cpu_count(), "scaling_exponent": exponent,
-                                          "scaling_exponent_parts": parts, "cases": rows},
-                              indent=2))
+                               "scaling_exponent_parts": parts, "cases": rows}, indent=2))
     os.replace(tmp, args.out)
     print(f"written {args.out}")
     return 0
