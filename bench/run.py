@@ -146,7 +146,7 @@ def main(argv=None):
         print(f"{name:<22} {r['cells']:>7} {r['iterations']:>6} {r['wall_s']:>8.2f} {r['compile_s']:>9.2f} "
               f"{r['peak_rss_MB']:>8.0f}  {verdict}", flush=True)
     exponent = scaling_exponent(rows)
-    parts = growth_parts(rows) if exponent is not None else {}
+    parts = growth_parts(rows)  # None each, like the exponent, with fewer than two demo points
     if exponent is not None:
         print(f"cost growth: wall ~ N^{exponent:.2f} (target <= 1.25: {'met' if exponent <= 1.25 else 'MISSED'}): "
               f"iterations ~ N^{parts['iterations']:.2f}, seconds per iteration ~ N^{parts['per_iteration']:.2f}")
