@@ -21,8 +21,13 @@ itself (which would force cells with a ~180-degree angle):
   the nose, is an interior vertex of five cells.
 
 Stations off the hub are hub-shaped (geometry.grading.HubStations) so that lines run straight past
-the hub: in the head, and along the whole chain behind the tail (and ahead of a blunt nose), where
-the face's cells are carried at the same fraction of the bore instead of being blended away. The still air is a core block ahead of the bore and annular blocks out to ``R_amb``.
+the hub: in the head, and along the whole chain ahead of a blunt nose, where the face's cells are
+carried at the same fraction of the bore. Behind the tail the wake column relaxes the tail station's
+thin cells (graded for the face and the hub's wall) into the ``smooth`` profile, which the rest of the
+chain carries: a cluster of wall-sized cells carried down the outlet tube's free stream (aspect ratios
+near 1000) was what made the outer iteration's count grow with the mesh (demo reducer, middle flow:
+293 / 343 / 570 iterations coarse / normal / fine with it, 279 / 258 / 254 without). The still air is a
+core block ahead of the bore and annular blocks out to ``R_amb``.
 
 Patches: ``ambient`` (upstream face x = -L_amb and far radial face r = R_amb), ``axis``, ``outlet``,
 walls ``wall`` (duct), ``wall-hub``, ``wall-flange`` (the plate of a flanged or bell mouth),
@@ -49,7 +54,8 @@ import numpy as np
 
 from .grading import (LEVEL_SCALE, STEP_RELAX_RADII, Y_PLUS_TARGET, HubStations, Sizing, axial,  # noqa: F401
                       cells_needed, explicit_block, fractions, graded, kinematic_viscosity_estimate, line,
-                      relaxed_block, station)
+                      relaxed_block, station, step_weight)
+from .blocks import GridBlock
 from .mesh import Mesh, mesh_from_cells
 from .segments import Head, segment_positions, chain_outline
 from .wall_spacing import first_cell_height as pipe_first_cell_height
@@ -176,11 +182,13 @@ def _columns(case, z: Sizing, mouth_delta: float):
 
 
 def _face_shaped_beyond_head(cols: list[_Column]) -> None:
-    """Columns downstream of a hub's tail (and upstream of a blunt nose) carry its face's cells too."""
+    """Columns upstream of a blunt nose carry its face's cells too; those downstream of a hub's tail carry
+    the same node count in the ``smooth`` profile, into which the tail station's thin cells relax (see
+    :func:`_wake_relaxation`)."""
     kinds = [c.kind for c in cols]
     if "wake" in kinds:
-        for c in cols[kinds.index("wake") + 1:]:
-            c.shape = "face"
+        for c in cols[kinds.index("wake"):]:
+            c.shape = "smooth"
     if "front" in kinds:
         for c in cols[:kinds.index("front")]:
             c.shape = "face"
@@ -201,8 +209,8 @@ def _radial_counts(cols: list[_Column], z: Sizing, hub: HubStations | None) -> N
     """Radial cells per column: a sudden expansion adds the cells of its face, a contraction drops them;
     a blunt hub face takes its cells from the stations ahead of it and gives them back behind the tail,
     so the annulus keeps the chain's count. A contraction whose face needs more cells than the wide side
-    can spare (keeping ``n_min`` in the bore) raises the count upstream, back to the mouth or to the wide
-    side of an earlier expansion (whose face takes the extra cells)."""
+    can spare (keeping ``n_min`` in the bore, besides a hub face's cells) raises the count upstream, back
+    to the mouth or to the wide side of an earlier expansion (whose face takes the extra cells)."""
     n_min = max(8, int(0.7 * z.radial_cells))
     face = hub.face_cells if hub is not None else 0
     cols[0].n = z.radial_cells + (face if any(c.kind == "front" for c in cols) else 0)
@@ -210,13 +218,15 @@ def _radial_counts(cols: list[_Column], z: Sizing, hub: HubStations | None) -> N
         r_l, r_r = _jump(left, right)
         if abs(r_l - r_r) <= 1e-9 * r_l:
             onto_hub = left.shape == "face" and right.kind == "hub"
-            off_hub = left.kind == "hub" and right.shape == "face"
+            off_hub = left.kind == "hub" and right.kind == "wake"
             right.n = left.n - face * onto_hub + face * off_hub
             continue
         small, big = min(r_l, r_r), max(r_l, r_r)
         k = cells_needed(big - small, z.corner(small), z.h1(big), z.q, 2.5 * big / z.radial_cells, minimum=3)
-        if r_r < r_l and left.n - k < n_min:
-            _raise_upstream(cols, cols.index(left), n_min + k - left.n)
+        # a hub-shaped narrow side keeps the face's cells besides the bore's
+        keep = n_min + (face if right.shape is not None else 0)
+        if r_r < r_l and left.n - k < keep:
+            _raise_upstream(cols, cols.index(left), keep + k - left.n)
         right.n = left.n + k if r_r > r_l else left.n - k
 
 
@@ -231,9 +241,12 @@ def _raise_upstream(cols: list[_Column], k: int, extra: int) -> None:
 # ---------------------------------------------------------------- stations and duct blocks
 
 def _col_station(col: _Column, x: float, r: float, side: str, z: Sizing, hub) -> np.ndarray:
-    """Radial nodes of ``col``'s west or east side at x, for a wall radius r."""
+    """Radial nodes of ``col``'s ``west`` or ``east`` side at x, for a wall radius r, or its ``own`` profile
+    that a relaxed column blends to (not the west side for a hub's wake, which starts on the tail face)."""
     if col.kind == "hub" or (col.kind == "nose" and side == "east"):
         return hub.annulus(x, r, col.n, z)
+    if col.kind == "wake" and side == "west":
+        return hub.shaped(x, r, col.n, "face", z)
     if col.shape is not None:
         return hub.shaped(x, r, col.n, col.shape, z)
     return station(x, 0.0, r, col.n, z)
@@ -263,25 +276,70 @@ def _station_views(left: _Column | None, right: _Column | None, z: Sizing, hub):
     return (core, full) if r_l < r_r else (full, core)
 
 
-def _step_relaxation(cols: list[_Column], k: int) -> tuple[float, float]:
+def _step_relaxation(cols: list[_Column], k: int, rh: float = 0.0) -> tuple[float, float]:
     """Lengths (m) over which column k's west/east station relaxes to its own: nonzero where the column is
-    the wide side of a sudden area change (its station carries the step face's cells)."""
+    the wide side of a sudden area change (its station carries the step face's cells) or a hub's wake
+    (hub radius ``rh``) that a step follows at once."""
     col = cols[k]
-    wide_west = k > 0 and _step_sign(cols[k - 1], col) > 0
+    # a hub's wake starts on the tail station, with the face's and the hub's thin cells (here only when a
+    # step follows at once; else they relax across columns, see _wake_relaxation)
+    wide_west = col.kind == "wake" or (k > 0 and _step_sign(cols[k - 1], col) > 0)
     wide_east = k + 1 < len(cols) and _step_sign(col, cols[k + 1]) < 0
-    lw = STEP_RELAX_RADII * float(col.wall(col.x0)) if wide_west else 0.0
+    lw = STEP_RELAX_RADII * (rh if col.kind == "wake" else float(col.wall(col.x0))) if wide_west else 0.0
     le = STEP_RELAX_RADII * float(col.wall(col.x1)) if wide_east else 0.0
     fit = min(1.0, (col.x1 - col.x0) / (lw + le)) if lw + le > 0 else 1.0
     return lw * fit, le * fit
 
 
+def _wake_relaxation(cols: list[_Column], k: int, rh: float) -> tuple[float, float, float] | None:
+    """(tail x, bore radius there, length) when column k lies where the tail station's thin cells relax into
+    the ``smooth`` profile: from the hub's tail over ``STEP_RELAX_RADII`` hub radii ``rh``, across columns,
+    not past the first sudden area change (whose station carries the step face) nor the outlet. None
+    elsewhere, and where a step follows the wake column at once (that column relaxes by itself,
+    :func:`_step_relaxation`)."""
+    kinds = [c.kind for c in cols]
+    if "wake" not in kinds or k < kinds.index("wake"):
+        return None
+    wake = kinds.index("wake")
+    end = wake
+    while end + 1 < len(cols) and _step_sign(cols[end], cols[end + 1]) == 0:
+        end += 1
+    if k > end or (end == wake and end + 1 < len(cols)):
+        return None
+    x_tail = cols[wake].x0
+    r_tail = float(cols[wake].wall(x_tail))
+    # a tail face of the hub's radius relaxes like a step face of its wide radius (measured, demo at level
+    # fine: 254 / 263 / 292 iterations relaxing over 1 / 2 / 3.3 hub radii, the last = one head radius)
+    length = min(STEP_RELAX_RADII * rh, cols[end].x1 - x_tail)
+    return (x_tail, r_tail, length) if cols[k].x0 < x_tail + length else None
+
+
+def _wake_block(col: _Column, south, north, x_tail: float, r_tail: float, length: float, z: Sizing,
+                hub) -> GridBlock:
+    """A column behind the tail: the transfinite block through its own ``smooth`` stations, plus the tail
+    station's offset from the smooth profile times :func:`grading.step_weight` of the distance from the
+    tail (scaled by the local wall radius), so neighbouring columns meet on the same nodes."""
+    tail, smooth = (hub.shaped(x_tail, r_tail, col.n, shape, z)[:, 1] for shape in ("face", "smooth"))
+    offset = tail - smooth
+    own_w = hub.shaped(col.x0, float(col.wall(col.x0)), col.n, "smooth", z)
+    own_e = hub.shaped(col.x1, float(col.wall(col.x1)), col.n, "smooth", z)
+    nodes = explicit_block(south, north, own_w, own_e).node_grid()
+    w = step_weight(south[:, 0] - x_tail, length) * north[:, 1] / r_tail
+    nodes[:, :, 1] += w[:, None] * offset[None, :]
+    return GridBlock(nodes)
+
+
 def _column_block(cols, k, south, north, west, east, z: Sizing, hub):
-    """Column k's block: transfinite between its stations, or relaxed next to a step (grading.relaxed_block)."""
+    """Column k's block: transfinite between its stations, relaxed behind a hub's tail (:func:`_wake_block`)
+    or next to a step (grading.relaxed_block)."""
     col = cols[k]
-    lw, le = _step_relaxation(cols, k)
+    wake = _wake_relaxation(cols, k, hub.rh) if hub is not None else None
+    if wake is not None:
+        return _wake_block(col, south, north, *wake, z, hub)
+    lw, le = _step_relaxation(cols, k, hub.rh if hub is not None else 0.0)
     if lw == 0.0 and le == 0.0:
         return explicit_block(south, north, west, east)
-    own_w = _col_station(col, col.x0, float(col.wall(col.x0)), "west", z, hub)
+    own_w = _col_station(col, col.x0, float(col.wall(col.x0)), "own", z, hub)
     own_e = _col_station(col, col.x1, float(col.wall(col.x1)), "east", z, hub)
     return relaxed_block(south, north, west, east, own_w, own_e, lw, le)
 

@@ -220,6 +220,8 @@ class HubStations:
     * annulus: hub to wall, wall-graded at both ends (first cell z.h1(R), y+ ~ 1 on the hub too);
     * ``face`` stations (ahead of a blunt nose, behind the tail): the flat face's nodes (``face_cells``,
       graded toward the hub edge, first cell z.corner(rh)) under the annulus's nodes;
+    * ``smooth`` stations (the free stream behind the tail): as many nodes, without the thin cells at the
+      hub radius (:meth:`_smooth`);
     * ``round`` stations (ahead of a round nose): ``split`` core cells up to the annulus node number
       ``split`` (the radius where the nose blocks meet, see geometry.fixture), then the annulus's nodes.
     """
@@ -243,11 +245,13 @@ class HubStations:
         return int(np.clip(np.argmin(np.abs(r - self.split_target)), 2, n - 2))
 
     def shaped(self, x: float, r_top: float, n: int, shape: str, z: Sizing) -> np.ndarray:
-        """A ``face`` (n = face cells + annulus cells) or ``round`` (n = annulus cells) station.
+        """A ``face`` or ``smooth`` (n = face cells + annulus cells) or ``round`` (n = annulus cells) station.
 
         Away from the head (bore r_top), a ``face`` station keeps the face's cells scaled by r_top/R_head
         (so columns between such stations have no cluster of thin cells to blend away) and grades its
         wall cells for the local bore."""
+        if shape == "smooth":
+            return self._smooth(x, r_top, n, z)
         if shape == "face":
             c = r_top / self.r_head
             rh, f = c * self.rh, graded(self.rh, self.face_cells, None, z.corner(self.rh), z.q)
@@ -258,3 +262,26 @@ class HubStations:
         r_q = ring[j, 1]
         core = line((x, 0.0), (x, r_q), graded(r_q, j, None, ring[j + 1, 1] - r_q, z.q))
         return np.vstack([core, ring[j + 1:]])
+
+    def _smooth(self, x: float, r_top: float, n: int, z: Sizing) -> np.ndarray:
+        """The ``face`` station without its thin cells at the hub radius, for the free stream behind the
+        tail: the face's cells uniform, the ring's growing run next to the hub radius raised to that size
+        and the ring's core cells shrunk to make room, its wall cells kept (where the ring has no room for
+        that, its cells are kept as they are). Node for node it stays close to the ``face`` station, so
+        relaxing one into the other over a short wake leaves the cells' angles about as they were."""
+        c = r_top / self.r_head
+        rh = c * self.rh
+        uniform = rh / self.face_cells
+        sizes = np.diff(graded(r_top - rh, n - self.face_cells, c * z.h1(self.r_head), z.h1(r_top), z.q))
+        sizes *= r_top - rh
+        lead = 0
+        while lead < len(sizes) and sizes[lead] < uniform and (lead == 0 or sizes[lead] >= sizes[lead - 1]):
+            lead += 1
+        core = np.flatnonzero(sizes >= uniform)
+        deficit = lead * uniform - sizes[:lead].sum()
+        if len(core) and sizes[core].sum() > 2.0 * deficit:
+            sizes[core] *= 1.0 - deficit / sizes[core].sum()
+            sizes[:lead] = uniform
+        ring = np.concatenate([[0.0], np.cumsum(sizes)]) / sizes.sum()
+        return np.vstack([line((x, 0.0), (x, rh), np.linspace(0.0, 1.0, self.face_cells + 1)),
+                          line((x, rh), (x, r_top), ring)[1:]])

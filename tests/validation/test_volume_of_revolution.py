@@ -51,6 +51,17 @@ def test_head_cone_tube_with_blunt_hub():
         assert mesh_volume(case(segs), level) == pytest.approx(exact, rel=1e-10)
 
 
+def test_blunt_hub_then_step_down():
+    """Head with a blunt hub, a step down right behind its wake, a tube: V to 1e-10 relative."""
+    segs = [{"kind": "head", "diameter_mm": 100, "length_mm": 60, "rotor_at_mm": 30, "hub_diameter_mm": 30,
+             "hub_start_mm": 8, "hub_length_mm": 40, "hub_nose": "blunt"},
+            {"kind": "step", "to_diameter_mm": 40},
+            {"kind": "tube", "length_mm": 400}]
+    exact = AMBIENT + math.pi * 0.05 ** 2 * 0.06 - math.pi * 0.015 ** 2 * 0.04 + math.pi * 0.02 ** 2 * 0.4
+    for level in ("coarse", "fine"):
+        assert mesh_volume(case(segs), level) == pytest.approx(exact, rel=1e-10)
+
+
 def test_chamber_steps_and_expanding_cone():
     """Head, chamber with port, step contraction and expansion, a diverging cone: V to 1e-10 relative."""
     segs = [{"kind": "head", "diameter_mm": 70, "length_mm": 50},
