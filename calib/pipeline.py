@@ -13,7 +13,6 @@ from dataclasses import dataclass
 from typing import Callable
 
 import numpy as np
-from scipy.interpolate import LinearNDInterpolator, NearestNDInterpolator
 
 from geometry.case import Case
 from geometry.fixture import build_fixture_mesh
@@ -102,22 +101,6 @@ class PreparedFixture:
         resistance = np.zeros(mesh.n_cells)
         resistance[cells] = head.rotor_loss * self.air.density * u_head / (2.0 * thickness)
         return resistance
-
-
-def transferred_state(state: FlowState, centres: np.ndarray, mesh, density: float) -> FlowState:
-    """A solution on another mesh of the same fixture (cell centres ``centres``, m) carried onto ``mesh``:
-    cell fields by linear interpolation on the source centres (nearest value outside their hull), face
-    mass fluxes from the interpolated velocities. A start only: the solve restores continuity."""
-    fields = np.column_stack([state.u, state.v, state.p, state.mu_eff])
-    values = LinearNDInterpolator(centres, fields)(mesh.cell_centre)
-    outside = np.isnan(values).any(axis=1)
-    if outside.any():
-        values[outside] = NearestNDInterpolator(centres, fields)(mesh.cell_centre[outside])
-    n_int, owner = mesh.n_internal, mesh.owner
-    face_velocity = values[owner, :2].copy()
-    face_velocity[:n_int] = 0.5 * (face_velocity[:n_int] + values[mesh.neighbour[:n_int], :2])
-    flux = density * mesh.face_area * np.einsum("ij,ij->i", face_velocity, mesh.face_normal)
-    return FlowState(values[:, 0].copy(), values[:, 1].copy(), values[:, 2].copy(), flux, values[:, 3].copy())
 
 
 def scaled_state(state: FlowState, ratio: float, viscosity: float) -> FlowState:

@@ -8,14 +8,12 @@ parallelism is only *between* chains, never inside one, so that rule holds whate
 
 The job graph of one case (levels ordered coarse -> fine, flows q_0 < ... < q_n, middle m = n // 2):
 
-* one chain per coarser level, all flows; every chain runs from the highest flow down;
-* the next-to-finest level starts with a *lead* job, its highest flow q_n alone; when it is done, the
-  rest of that level's chain continues from it, and the finest level's *head* chain q_n..q_m starts
-  from the lead's solution carried onto the finer mesh (:func:`calib.pipeline.transferred_state`):
-  measured, demo reducer at 60 L/s, 354 fine-level iterations from the normal solution against 626
-  from rest (between coarser levels it gains nothing: 478 against 446 from coarse to normal). The
-  *tail* chain q_m-1..q_0 starts from the head's last state (the same start the unsplit chain would use).
-  With one level the head starts from rest;
+* one chain per coarser level, all flows; every chain runs from the highest flow down, from rest;
+* the finest level's *head* chain q_n..q_m starts from rest too, and its *tail* chain q_m-1..q_0 from
+  the head's last state (the same start the unsplit chain would use). A coarser level's solution
+  carried onto the finer mesh is a worse start than rest (measured, demo reducer at 60 L/s: 376 fine
+  iterations from the normal solution against 265 from rest, 331 normal ones from the coarse solution
+  against 255), so no level waits for another;
 * one closure-sensitivity job per published-range end of each closure constant, each started from
   the head's middle-flow state (so they run after the head, beside the tail and the coarser chains).
 
@@ -54,8 +52,7 @@ from solver.convergence import DivergenceError
 from solver.flow import FlowState, SolverSettings
 
 from .atomic import write_text
-from .pipeline import (PreparedFixture, case_constants, scaled_state, show_user_warning, solve_point,
-                       transferred_state)
+from .pipeline import PreparedFixture, case_constants, scaled_state, show_user_warning, solve_point
 from .store import PointStore, StoredPoint, point_key
 from .table import PointResult
 from .units import LITRE_M3
@@ -141,8 +138,6 @@ class ChainJob:
     start_key: str | None = None
     store_dir: str | None = None
     label: str = ""
-    start_centres: np.ndarray | None = None  # cell centres of ``start``'s mesh when it is another level's
-    return_centres: bool = False             # give this level's cell centres back (for a finer level's start)
 
 
 @dataclass
@@ -177,7 +172,6 @@ class ChainResult:
     solved: list[SolvedPoint] = field(default_factory=list)
     diverged: list[DivergedPoint] = field(default_factory=list)
     case_error: tuple[str, str] | None = None  # (key, message): CaseError does not survive pickling
-    centres: np.ndarray | None = None          # the level's cell centres, when the job asked for them
 
 
 _PROGRESS_QUEUE = None  # set in process-pool workers: progress goes to the parent through it
@@ -215,9 +209,6 @@ def _run_chain(job: ChainJob, progress) -> ChainResult:
     step = _chain_progress(job, progress)
     state, last_flow, last_key = job.start, job.start_flow, job.start_key
     result = ChainResult()
-    if job.return_centres:
-        prepared = with_constants(prepared_fixture(job.source, job.level), overrides)
-        result.centres = prepared.fixture.mesh.cell_centre
     for flow in job.flows:
         key = point_key(case, job.level, flow, last_key, overrides, job.settings)
         stored = store.get(key) if store is not None else None
@@ -226,8 +217,6 @@ def _run_chain(job: ChainJob, progress) -> ChainResult:
             prepared = prepared or with_constants(prepared_fixture(job.source, job.level), overrides)
             initial = None
             if state is not None:
-                if state is job.start and job.start_centres is not None:  # another level's solution
-                    state = transferred_state(state, job.start_centres, prepared.fixture.mesh, prepared.air.density)
                 initial = state if flow == last_flow else scaled_state(state, flow / last_flow,
                                                                        prepared.air.viscosity)
             callback = (lambda i, r, q=flow: step(q, i, r)) if step else None
@@ -388,19 +377,17 @@ class SweepPlan:
     sensitivity: tuple[tuple[str, float], ...] = ()
     store_dir: str | None = None
 
-    def job(self, level: str, flows, start: SolvedPoint | None = None, overrides=(), label: str = "",
-            start_centres: np.ndarray | None = None, return_centres: bool = False) -> ChainJob:
+    def job(self, level: str, flows, start: SolvedPoint | None = None, overrides=(), label: str = "") -> ChainJob:
         return ChainJob(self.source, level, tuple(flows), self.settings, tuple(overrides),
                         start.state if start else None, start.point.flow if start else None,
-                        start.key if start else None, self.store_dir, label,
-                        start_centres if start else None, return_centres)
+                        start.key if start else None, self.store_dir, label)
 
     @property
     def middle(self) -> int:
         return len(self.flows) // 2
 
     def job_count(self) -> int:
-        return len(self.levels) + 1 + (len(self.levels) > 1) + len(self.sensitivity)
+        return len(self.levels) + 1 + len(self.sensitivity)
 
 
 @dataclass
@@ -423,13 +410,10 @@ def _initial_jobs(plan: SweepPlan) -> list[tuple[ChainJob, str]]:
     # Chains run from the highest flow down: the turbulent high-flow solve converges fastest from rest,
     # and each lower flow then starts from a developed field (measured: 30 s against 41 s for the
     # tube-fed example at level normal, ascending).
+    # The finest level's head first: its head and tail are the longest path through the graph.
     *coarser, finest = plan.levels
-    if not coarser:
-        return [(plan.job(finest, plan.flows[plan.middle:][::-1]), "head")]
-    *others, feeder = coarser
-    jobs = [(plan.job(level, plan.flows[::-1]), "chain") for level in others]
-    jobs.append((plan.job(feeder, plan.flows[-1:], return_centres=True), "lead"))
-    return jobs
+    return ([(plan.job(finest, plan.flows[plan.middle:][::-1]), "head")]
+            + [(plan.job(level, plan.flows[::-1]), "chain") for level in coarser])
 
 
 def _sensitivity_jobs(plan: SweepPlan, reference: SolvedPoint) -> list[tuple[ChainJob, str]]:
@@ -439,15 +423,9 @@ def _sensitivity_jobs(plan: SweepPlan, reference: SolvedPoint) -> list[tuple[Cha
 
 
 def _follow_ups(plan: SweepPlan, role, outcome: ChainResult, result: SweepResult):
-    """Jobs that become ready when a lead, head or tail chain finishes."""
+    """Jobs that become ready when a head or tail chain finishes."""
     jobs = []
-    if role == "lead":
-        lead = outcome.solved[-1] if outcome.solved else None  # diverged: both start from rest
-        feeder, finest = plan.levels[-2], plan.levels[-1]
-        if len(plan.flows) > 1:
-            jobs.append((plan.job(feeder, plan.flows[:-1][::-1], lead), "chain"))
-        jobs.append((plan.job(finest, plan.flows[plan.middle:][::-1], lead, start_centres=outcome.centres), "head"))
-    elif role == "head":
+    if role == "head":
         tail = plan.flows[:plan.middle][::-1]
         last = outcome.solved[-1] if outcome.solved else None
         if tail:
