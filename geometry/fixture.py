@@ -294,9 +294,9 @@ def _step_relaxation(cols: list[_Column], k: int, rh: float = 0.0) -> tuple[floa
 def _wake_relaxation(cols: list[_Column], k: int, rh: float) -> tuple[float, float, float] | None:
     """(tail x, bore radius there, length) when column k lies where the tail station's thin cells relax into
     the ``smooth`` profile: from the hub's tail over ``STEP_RELAX_RADII`` hub radii ``rh``, across columns,
-    not past the first sudden area change (whose station carries the step face) nor the outlet. None
-    elsewhere, and where a step follows the wake column at once (that column relaxes by itself,
-    :func:`_step_relaxation`)."""
+    not past the first sudden area change (whose station carries the step face); the outlet may cut it
+    short. None elsewhere, and where a step follows the wake column at once (that column relaxes by
+    itself, :func:`_step_relaxation`)."""
     kinds = [c.kind for c in cols]
     if "wake" not in kinds or k < kinds.index("wake"):
         return None
@@ -308,9 +308,11 @@ def _wake_relaxation(cols: list[_Column], k: int, rh: float) -> tuple[float, flo
         return None
     x_tail = cols[wake].x0
     r_tail = float(cols[wake].wall(x_tail))
+    # the outlet shares its nodes with no block: there the relaxation may stop unfinished
+    far = np.inf if end == len(cols) - 1 else cols[end].x1
     # a tail face of the hub's radius relaxes like a step face of its wide radius (measured, demo at level
     # fine: 254 / 263 / 292 iterations relaxing over 1 / 2 / 3.3 hub radii, the last = one head radius)
-    length = min(STEP_RELAX_RADII * rh, cols[end].x1 - x_tail)
+    length = min(STEP_RELAX_RADII * rh, far - x_tail)
     return (x_tail, r_tail, length) if cols[k].x0 < x_tail + length else None
 
 

@@ -216,6 +216,18 @@ def test_reducer_hub_quality(level):
     assert fm.mesh.quality()["max_non_orthogonality_deg"] < 60.0
 
 
+@pytest.mark.parametrize("level", ["coarse", "fine"])
+def test_short_wake_at_the_outlet_stays_square(level):
+    """A blunt hub ending 5 mm before the outlet: the tail's thin cells relax over one hub radius and the
+    outlet cuts the relaxation short, instead of squeezing it into the 5 mm (measured worst
+    non-orthogonality 38.4 / 28.8 deg coarse / fine; 58.2 / 59.6 squeezed)."""
+    data = copy.deepcopy(BASE)
+    data["segment"] = [dict(BASE["segment"][0], hub_nose="blunt", **dict(HUB, hub_start_mm=10, hub_length_mm=45))]
+    fm = build_fixture_mesh(parse_case(data, "."), level)
+    assert np.all(fm.mesh.cell_volume > 0.0)
+    assert fm.mesh.quality()["max_non_orthogonality_deg"] < 45.0
+
+
 @pytest.mark.parametrize("level", list(LEVEL_SCALE))
 def test_no_wall_sized_cells_in_the_free_stream_behind_the_hub(level):
     """More than one hub radius behind the tail, away from the wall (r < 0.8 R), no cell is thinner than
