@@ -54,7 +54,7 @@ import numpy as np
 
 from .grading import (LEVEL_SCALE, STEP_RELAX_RADII, Y_PLUS_TARGET, HubStations, Sizing, axial,  # noqa: F401
                       cells_needed, explicit_block, fractions, graded, kinematic_viscosity_estimate, line,
-                      relaxed_block, station, step_weight)
+                      relaxed_block, station, add_relaxing_offset)
 from .blocks import GridBlock
 from .mesh import Mesh, mesh_from_cells
 from .segments import Head, segment_positions, chain_outline
@@ -298,9 +298,9 @@ def _wake_relaxation(cols: list[_Column], k: int, rh: float) -> tuple[float, flo
     short. None elsewhere, and where a step follows the wake column at once (that column relaxes by
     itself, :func:`_step_relaxation`)."""
     kinds = [c.kind for c in cols]
-    if "wake" not in kinds or k < kinds.index("wake"):
+    wake = kinds.index("wake") if "wake" in kinds else len(cols)
+    if k < wake:
         return None
-    wake = kinds.index("wake")
     end = wake
     while end + 1 < len(cols) and _step_sign(cols[end], cols[end + 1]) == 0:
         end += 1
@@ -319,15 +319,13 @@ def _wake_relaxation(cols: list[_Column], k: int, rh: float) -> tuple[float, flo
 def _wake_block(col: _Column, south, north, x_tail: float, r_tail: float, length: float, z: Sizing,
                 hub) -> GridBlock:
     """A column behind the tail: the transfinite block through its own ``smooth`` stations, plus the tail
-    station's offset from the smooth profile times :func:`grading.step_weight` of the distance from the
-    tail (scaled by the local wall radius), so neighbouring columns meet on the same nodes."""
+    station's offset from the smooth profile fading from the tail (:func:`grading.add_relaxing_offset`),
+    so neighbouring columns meet on the same nodes."""
     tail, smooth = (hub.shaped(x_tail, r_tail, col.n, shape, z)[:, 1] for shape in ("face", "smooth"))
-    offset = tail - smooth
     own_w = hub.shaped(col.x0, float(col.wall(col.x0)), col.n, "smooth", z)
     own_e = hub.shaped(col.x1, float(col.wall(col.x1)), col.n, "smooth", z)
     nodes = explicit_block(south, north, own_w, own_e).node_grid()
-    w = step_weight(south[:, 0] - x_tail, length) * north[:, 1] / r_tail
-    nodes[:, :, 1] += w[:, None] * offset[None, :]
+    add_relaxing_offset(nodes, south[:, 0], north[:, 1], x_tail, r_tail, tail - smooth, length)
     return GridBlock(nodes)
 
 

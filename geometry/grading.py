@@ -142,12 +142,20 @@ def relaxed_block(south, north, west, east, own_west, own_east, relax_west: floa
     stream (thin cells 1e3 times longer than high there; up to 73 degrees of non-orthogonality measured)."""
     base = explicit_block(south, north, own_west if relax_west else west,
                           own_east if relax_east else east).node_grid()
-    x, r_wall = south[:, 0], north[:, 1]
-    for relax, station, own, x_end in ((relax_west, west, own_west, x[0]), (relax_east, east, own_east, x[-1])):
+    for relax, station, own, end in ((relax_west, west, own_west, 0), (relax_east, east, own_east, -1)):
         if relax:
-            w = step_weight(np.abs(x - x_end), relax) * r_wall / r_wall[0 if x_end == x[0] else -1]
-            base[:, :, 1] += w[:, None] * (station[:, 1] - own[:, 1])[None, :]
+            add_relaxing_offset(base, south[:, 0], north[:, 1], south[end, 0], north[end, 1],
+                                station[:, 1] - own[:, 1], relax)
     return GridBlock(base)
+
+
+def add_relaxing_offset(nodes, x, r_wall, x_from: float, r_from: float, offset: np.ndarray,
+                        length: float) -> None:
+    """Add a station's radial node offsets ``offset`` (taken at x_from, wall radius r_from) to a block's
+    node grid (axial node positions ``x``, wall radius ``r_wall`` there), times :func:`step_weight` of the
+    distance from x_from and scaled by the local wall radius, so they fade within ``length``."""
+    w = step_weight(np.abs(x - x_from), length) * r_wall / r_from
+    nodes[:, :, 1] += w[:, None] * offset[None, :]
 
 
 # ---------------------------------------------------------------- target sizes of a mesh level

@@ -234,11 +234,14 @@ def test_no_wall_sized_cells_in_the_free_stream_behind_the_hub(level):
     twice the first wall cell: the tail station's thin cells relax within the wake. Measured: 3.1-7.4
     first cells (fine-coarse); 0.3 while the hub's wall cells were carried down the outlet tube, which
     made the outer iteration's count grow with the mesh (geometry.fixture)."""
-    fm = build_fixture_mesh(load_case(CASES / "reducer_hub.toml"), level)
+    case = load_case(CASES / "reducer_hub.toml")
+    fm = build_fixture_mesh(case, level)
     m = fm.mesh
     height = np.ptp(m.nodes[m.cell_nodes][:, :, 1], axis=1)
     x, r = m.cell_centre.T
-    tail, rh = 0.006 + 0.036, 0.015   # the case's hub: start 6 mm, length 36 mm, diameter 30 mm
+    assert case.head_index == 0   # the head is the first segment: it starts at x = 0
+    head = case.head
+    tail, rh = head.hub_start + head.hub_length, head.hub_radius
     core = (x > tail + rh) & (fm.duct_radius > 0.0) & (r < 0.8 * fm.duct_radius)
     assert core.sum() > 100
     assert height[core].min() > 2.0 * fm.first_cell_height
